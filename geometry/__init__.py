@@ -1,0 +1,4 @@
+"""Copper geometry: case files, units, stackup, shapes, artwork readers and meshing.
+
+This package never imports :mod:`solver`.
+"""
