@@ -1,0 +1,185 @@
+"""Assembly of the branch impedance: partial resistance ``R`` (sparse) and partial inductance
+``L`` (dense, real symmetric, reused for every frequency), reduced to loop currents."""
+from __future__ import annotations
+
+import time
+from dataclasses import dataclass, field
+
+import numpy as np
+import scipy.sparse as sp
+
+from geometry.errors import InputError
+from solver import barrels, partial
+from solver.loops import LoopBasis, loop_basis
+from solver.network import BARREL, EDGE, LUMPED, Network, build_network
+
+MU0 = 4e-7 * np.pi
+
+
+@dataclass(frozen=True, eq=False)
+class System:
+    """Everything the sweep needs, in SI units.
+
+    Attributes
+    ----------
+    network : Network
+    basis : LoopBasis
+    R : scipy.sparse.csr_matrix, shape (B, B)
+        Partial resistance in ohm.
+    L : ndarray, shape (B, B)
+        Partial inductance in henry.
+    ports : tuple of geometry.model.Port
+    port_paths : scipy.sparse.csc_matrix, shape (B, P)
+        1 A of each port from plus to minus along the tree.
+    port_nodes : ndarray of int64, shape (P, 2)
+        Plus and minus node of each port.
+    timing : dict
+        Seconds spent per stage.
+    """
+
+    network: Network
+    basis: LoopBasis
+    R: sp.csr_matrix
+    L: np.ndarray
+    ports: tuple
+    port_paths: sp.csc_matrix
+    port_nodes: np.ndarray
+    timing: dict = field(default_factory=dict)
+
+    @property
+    def n_loops(self) -> int:
+        """Number of loop-current unknowns of the dense system."""
+        return self.basis.loops.shape[1]
+
+    def __repr__(self):
+        return (f"System({self.network.n_branches} branch currents, {self.network.n_nodes} nodes, "
+                f"{self.n_loops} loop currents, R nnz {self.R.nnz}, "
+                f"L {self.L.nbytes / 2**20:.1f} MiB)")
+
+
+def estimate_memory(n_branches, n_loops, n_ports=1, n_freqs=1):
+    """Peak bytes of the dense path.
+
+    Parameters
+    ----------
+    n_branches, n_loops, n_ports, n_freqs : int
+
+    Returns
+    -------
+    int
+        ``L`` (8 B^2) plus the loop products (8 n B + 8 n^2), two complex loop matrices per
+        frequency (32 n^2) and the stored currents (16 F P B).
+    """
+    b, n = n_branches, n_loops
+    return int(8 * b * b + 8 * n * b + 8 * n * n + 32 * n * n + 16 * n_freqs * n_ports * b)
+
+
+def available_memory():
+    """Bytes of memory available to this process (Linux ``MemAvailable``, else 8 GiB)."""
+    try:
+        with open("/proc/meminfo") as f:
+            for line in f:
+                if line.startswith("MemAvailable:"):
+                    return int(line.split()[1]) * 1024
+    except OSError:
+        pass
+    return 8 * 2**30
+
+
+def _check_memory(n_branches, n_loops, n_ports, n_freqs, limit):
+    need = estimate_memory(n_branches, n_loops, n_ports, n_freqs)
+    if need > limit:
+        raise InputError(
+            f"the mesh has {n_branches} current unknowns; the dense solve needs about "
+            f"{need / 2**30:.1f} GiB but {limit / 2**30:.1f} GiB are available: raise [mesh] "
+            f"max_edge and min_edge, or crop the copper with [window]")
+
+
+def _barrel_matrices(network, layout):
+    """Resistance (diagonal) and inductance (dense) of the via barrel segments."""
+    bz = network.barrels["z"]
+    n = len(bz)
+    radius = network.barrels["radius"]
+    vias = [layout.vias[k] for k in network.barrels["via"]]
+    r = np.empty(n)
+    ell = np.empty((n, n))
+    for i in range(n):
+        via = vias[i]
+        length = bz[i, 1] - bz[i, 0]
+        cond = layout.layer(network.barrels["upper"][i]).conductivity
+        r[i] = barrels.barrel_resistance(via.drill, via.plating, length, cond)
+        ell[i, i] = barrels.barrel_self_inductance(radius[i], length)
+        for j in range(i):
+            d = float(np.hypot(via.x - vias[j].x, via.y - vias[j].y))
+            ell[i, j] = ell[j, i] = barrels.barrel_mutual_inductance(
+                radius[i], tuple(bz[i]), radius[j], tuple(bz[j]), d)
+    return r, ell
+
+
+def assemble(mesh, layout, ports, lumped=(), *, n_freqs=1, f_max=0.0, memory_limit=None):
+    """Assemble the partial-element system of a meshed layout.
+
+    Parameters
+    ----------
+    mesh : geometry.mesh.Mesh
+    layout : geometry.model.Layout
+    ports : sequence of geometry.model.Port
+    lumped : sequence of geometry.model.Lumped
+    n_freqs : int
+        Number of frequencies to be solved (for the memory estimate).
+    f_max : float
+        Highest frequency in Hz (for ``sublayers = "auto"``).
+    memory_limit : int, optional
+        Bytes the dense path may use; default 80 % of the available memory.
+
+    Returns
+    -------
+    System
+
+    Raises
+    ------
+    InputError
+        A port across two bodies, or a mesh too large for the memory.
+    """
+    timing = {}
+    t = time.perf_counter()
+    network = build_network(mesh, layout, lumped, f_max=f_max)
+    basis = loop_basis(mesh, network)
+    port_nodes = np.array([(network.terminal_node(p.plus), network.terminal_node(p.minus))
+                           for p in ports], np.int64).reshape(-1, 2)
+    paths = []
+    for p, (a, b) in zip(ports, port_nodes):
+        try:
+            paths.append(basis.path(network, a, b))
+        except InputError as err:
+            raise InputError(f"[[port]] {p.name!r}: {err}") from None
+    port_paths = sp.csc_matrix(np.array(paths).T.reshape(network.n_branches, len(ports)))
+    timing["topology"] = time.perf_counter() - t
+
+    limit = memory_limit if memory_limit is not None else int(0.8 * available_memory())
+    _check_memory(network.n_branches, basis.loops.shape[1], len(ports), n_freqs, limit)
+
+    t = time.perf_counter()
+    n_edges = int((network.branch_kind == EDGE).sum())
+    sheets = mesh.triangles[network.sheet_tri]
+    args = (network.half_branch, network.half_tri, network.half_vertex, network.half_sign, n_edges)
+    L_edges = partial.inductance_matrix(mesh.points, sheets, network.sheet_z, *args)
+    R_edges = partial.resistance_matrix(mesh.points, sheets, network.sheet_resistance, *args)
+    r_bar, l_bar = _barrel_matrices(network, layout)
+
+    nb = network.n_branches
+    L = np.zeros((nb, nb))
+    L[:n_edges, :n_edges] = L_edges
+    del L_edges
+    bar = np.flatnonzero(network.branch_kind == BARREL)
+    L[np.ix_(bar, bar)] = l_bar
+    lum = np.flatnonzero(network.branch_kind == LUMPED)
+    L[lum, lum] = network.lumped_rl[:, 1]
+    diag = np.zeros(nb)
+    diag[bar] = r_bar
+    diag[lum] = network.lumped_rl[:, 0]
+    R = sp.block_diag([R_edges, sp.csr_matrix((nb - n_edges, nb - n_edges))], format="csr")
+    R = (R + sp.diags(diag)).tocsr()
+    timing["assemble"] = time.perf_counter() - t
+    return System(network=network, basis=basis, R=R, L=L, ports=tuple(ports),
+                  port_paths=port_paths, port_nodes=port_nodes, timing=timing)
