@@ -5,7 +5,11 @@ from pathlib import Path
 
 import numpy as np
 
+from solver.circuit import estimates
+from solver.exports.csv import write_impedance_csv
 from solver.exports.result_json import write_result_json
+from solver.exports.spice import write_spice
+from solver.exports.touchstone import write_touchstone
 
 
 def mesh_stats(mesh, system):
@@ -15,18 +19,38 @@ def mesh_stats(mesh, system):
             "loops": int(system.n_loops)}
 
 
+def circuit_estimate(case, result):
+    """The ``[circuit]`` estimates of a solved case, or ``None`` when the case has none."""
+    if case.circuit is None:
+        return None
+    return estimates(result, case.circuit, source=f"{case.path}: [circuit]")
+
+
 def write_outputs(case, mesh, system, result, out, *, timing=None):
-    """Write ``result.json`` and the exports of one solved case into ``out``.
+    """Write ``result.json``, ``impedance.csv``, the Touchstone file and the SPICE subcircuit of
+    one solved case into ``out``.
 
     Returns
     -------
     dict
-        The data written to ``result.json``.
+        The data written to ``result.json``, plus ``"files"`` (names written) and
+        ``"spice_fit_error"``.
     """
     out = Path(out)
     out.mkdir(parents=True, exist_ok=True)
-    return write_result_json(out / "result.json", result, mesh_stats=mesh_stats(mesh, system),
-                             timing=timing)
+    stem = Path(case.path).stem
+    n = len(result.ports)
+    estimate = circuit_estimate(case, result)
+    write_impedance_csv(out / "impedance.csv", result)
+    write_touchstone(out / f"{stem}_Z.s{n}p", result)
+    write_touchstone(out / f"{stem}_S.s{n}p", result, parameter="S")
+    fitted = write_spice(out / f"{stem}.cir", result, name=stem)
+    summary = write_result_json(out / "result.json", result, mesh_stats=mesh_stats(mesh, system),
+                                circuit=estimate.to_dict() if estimate else None, timing=timing)
+    summary["files"] = ["result.json", "impedance.csv", f"{stem}_Z.s{n}p", f"{stem}_S.s{n}p", f"{stem}.cir"]
+    summary["spice_fit_error"] = fitted.max_relative_error
+    summary["estimate"] = estimate
+    return summary
 
 
 def _si(value, unit):
