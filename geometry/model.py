@@ -210,6 +210,11 @@ class Case:
         ``(x0, y0, x1, y1)`` in metres.
     warnings : tuple of str
         Non-fatal findings, one line each.
+    drills : tuple of dict
+        ``[[drill]]`` entries: ``{"name": str, "file": Path, "span": tuple of str,
+        "plating": float (m)}``; the holes are read from the Excellon files.
+    fabrication : pathlib.Path or None
+        ``[fabrication] source``: a folder or zip of Gerber X2 and Excellon files.
     """
 
     path: Path
@@ -225,3 +230,5 @@ class Case:
     circuit: CircuitOptions | None = None
     window: tuple[float, float, float, float] | None = None
     warnings: tuple[str, ...] = ()
+    drills: tuple[dict, ...] = ()
+    fabrication: Path | None = None
