@@ -83,12 +83,14 @@ def _cmd_solve(args):
 
 def _cmd_inspect(args):
     from geometry.case import load_case
-    from geometry.meshing import triangulate
-    from solver.inspect import write_inspect
 
     case = load_case(args.case)
     for line in case.warnings:
         print(f"warning: {line}", file=sys.stderr)
+
+    from geometry.meshing import triangulate
+    from solver.inspect import write_inspect
+
     out = _out_dir(args, args.case)
     mesh = triangulate(case.layout, case.mesh)
     info = write_inspect(case, mesh, out)

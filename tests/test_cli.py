@@ -1,0 +1,30 @@
+"""The command line: exit status and messages."""
+import pytest
+
+from solver.cli import main
+from tests.bad_cases import BAD_CASES, write_case
+
+
+@pytest.mark.parametrize("case_id, text, words, extra", BAD_CASES, ids=[c[0] for c in BAD_CASES])
+def test_bad_input_exits_2_with_one_line(tmp_path, capsys, case_id, text, words, extra):
+    path = write_case(tmp_path, text, extra)
+    out_dir = tmp_path / "out"
+    status = main(["inspect", str(path), "--out", str(out_dir)])
+    err = capsys.readouterr().err
+    assert status == 2
+    lines = err.strip().splitlines()
+    assert len(lines) == 1, err
+    assert "Traceback" not in err
+    for word in words:
+        assert word in lines[0]
+    assert not out_dir.exists() or not any(out_dir.iterdir())   # nothing half-written
+
+
+def test_missing_case_file(tmp_path, capsys):
+    assert main(["solve", str(tmp_path / "nope.toml")]) == 2
+    assert "nope.toml" in capsys.readouterr().err
+
+
+def test_usage_error_is_status_2(capsys):
+    assert main(["solve"]) == 2
+    assert main(["frobnicate"]) == 2
