@@ -84,11 +84,12 @@ def format_inspect(case, info):
         area = layer["copper_area_m2"] / case.unit_scale**2
         lines.append(f"  layer {name}: copper {area:.4g} {u}^2, {layer['islands']} island(s), "
                      f"{layer['triangles']} triangles")
-    lines.append(f"  vias: {info['vias']}   terminals: {', '.join(info['terminals']) or '-'}")
-    lines.append(f"  ports: {', '.join(info['ports']) or '-'}   lumped: "
+    lines.append(f"  vias: {info['vias']}   terminals: "
+                 f"{', '.join(t['name'] for t in info['terminals']) or '-'}")
+    lines.append(f"  ports: {', '.join(p['name'] for p in info['ports']) or '-'}   lumped: "
                  f"{', '.join(x.name for x in case.lumped) or '-'}")
     m = info["mesh"]
     lines.append(f"  mesh: {m['triangles']} triangles, {m['unknowns']} current unknowns, "
                  f"minimum angle {m['min_angle_deg']:.1f} deg")
-    lines.append(f"  dense inductance matrix: {info['dense_memory_bytes'] / 2**20:.1f} MiB")
+    lines.append(f"  dense solve needs about {info['dense_memory_bytes'] / 2**20:.1f} MiB")
     return "\n".join(lines)
