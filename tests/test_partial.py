@@ -1,0 +1,105 @@
+"""Partial L and R of RWG branches against the exact bar formulas (Hoer & Love 1965) and Ohm's law."""
+from collections import defaultdict
+
+import numpy as np
+import pytest
+
+from solver.partial import inductance_matrix, resistance_matrix
+from tests.validation.references import bar_mutual_inductance, bar_self_inductance
+
+SIGMA = 5.8e7  # S/m, annealed copper (IEC 60028)
+
+
+def _strip(l, w, x0=0.0, y0=0.0):
+    """One row of w x w squares split by diagonals (two triangles across)."""
+    n = int(round(l / w))
+    xs = np.linspace(x0, x0 + l, n + 1)
+    pts = np.array([(x, y) for x in xs for y in (y0, y0 + w)])
+    tris = []
+    for i in range(n):
+        a, b, c, d = 2 * i, 2 * i + 2, 2 * i + 3, 2 * i + 1
+        tris += [(a, b, c), (a, c, d)]
+    return pts, np.array(tris, dtype=np.int64)
+
+
+def _branches(pts, tris, field, offset=0):
+    """RWG halves of every interior edge; one-sided halves on boundary edges that carry flux.
+
+    Returns the halves and the branch currents of the uniform current density ``field`` (A/m).
+    """
+    e2t = defaultdict(list)
+    for t, tri in enumerate(tris):
+        for k in range(3):
+            e2t[tuple(sorted((tri[k], tri[(k + 1) % 3])))].append((t, tri[(k + 2) % 3]))
+    hb, ht, hv, hs, cur = [], [], [], [], []
+    for (i, j), lst in e2t.items():
+        t0, v0 = lst[0]
+        tang = pts[j] - pts[i]
+        n = np.array([tang[1], -tang[0]])
+        if n @ ((pts[i] + pts[j]) / 2 - pts[tris[t0]].mean(0)) < 0:
+            n = -n
+        flux = field @ n
+        if len(lst) == 1 and abs(flux) < 1e-12:
+            continue
+        b = offset + len(cur)
+        hb.append(b), ht.append(t0), hv.append(pts[v0]), hs.append(1.0)
+        if len(lst) == 2:
+            hb.append(b), ht.append(lst[1][0]), hv.append(pts[lst[1][1]]), hs.append(-1.0)
+        cur.append(flux)
+    return (np.array(hb), np.array(ht), np.array(hv), np.array(hs)), np.array(cur)
+
+
+@pytest.mark.parametrize("l,w,t", [(10e-3, 1e-3, 35e-6), (20e-3, 2e-3, 70e-6), (5e-3, 0.5e-3, 18e-6)])
+def test_strip_matches_exact_bar(l, w, t):
+    pts, tris = _strip(l, w)
+    halves, cur = _branches(pts, tris, np.array([1.0 / w, 0.0]))
+    L = inductance_matrix(pts, tris, np.tile([0.0, t], (len(tris), 1)), *halves, len(cur))
+    # Hoer & Love 1965 exact partial self-inductance of a rectangular bar
+    assert cur @ L @ cur == pytest.approx(bar_self_inductance(l, w, t), rel=1e-3)
+    R = resistance_matrix(pts, tris, np.full(len(tris), 1.0 / (SIGMA * t)), *halves, len(cur))
+    # Ohm's law, l / (sigma w t)
+    assert cur @ (R @ cur) == pytest.approx(l / (SIGMA * w * t), rel=1e-9)
+
+
+@pytest.mark.parametrize("placement", ["side", "stacked"])
+def test_two_strips_mutual(placement):
+    l, w, t = 10e-3, 1e-3, 35e-6
+    dy, z2 = (1.5e-3, 0.0) if placement == "side" else (0.0, 0.3e-3)
+    p1, t1 = _strip(l, w)
+    p2, t2 = _strip(l, w, y0=dy)
+    pts = np.vstack([p1, p2])
+    tris = np.vstack([t1, t2 + len(p1)])
+    tri_z = np.vstack([np.tile([0.0, t], (len(t1), 1)), np.tile([z2, z2 + t], (len(t2), 1))])
+    h1, c1 = _branches(p1, t1, np.array([1.0 / w, 0.0]))
+    h2, c2 = _branches(p2, t2, np.array([1.0 / w, 0.0]), offset=len(c1))
+    halves = [np.concatenate([a, b]) for a, b in zip(h1, h2)]
+    halves[1] = np.concatenate([h1[1], h2[1] + len(t1)])
+    n = len(c1) + len(c2)
+    L = inductance_matrix(pts, tris, tri_z, *halves, n)
+    i1 = np.concatenate([c1, np.zeros(len(c2))])
+    i2 = np.concatenate([np.zeros(len(c1)), c2])
+    ref = bar_mutual_inductance(((0, l), (0, w), (0, t)), ((0, l), (dy, dy + w), (z2, z2 + t)))
+    # Hoer & Love 1965 exact mutual partial inductance of parallel bars
+    assert i1 @ L @ i2 == pytest.approx(ref, rel=1e-2)
+
+
+def test_irregular_mesh_symmetric_positive_definite():
+    import triangle as tr
+
+    poly = dict(vertices=np.array([[0, 0], [4e-3, 0], [4e-3, 1e-3], [2e-3, 3e-3], [0, 2e-3]]),
+                segments=np.array([[0, 1], [1, 2], [2, 3], [3, 4], [4, 0]]))
+    mesh = tr.triangulate(poly, "q30a2e-7")
+    pts, tris = mesh["vertices"], mesh["triangles"].astype(np.int64)
+    halves, cur = _branches(pts, tris, np.zeros(2))  # interior edges only
+    L = inductance_matrix(pts, tris, np.tile([0.0, 35e-6], (len(tris), 1)), *halves, len(cur))
+    assert np.array_equal(L, L.T)
+    assert np.linalg.eigvalsh(L).min() > 0
+    # resistance: symmetric, positive definite on interior edges
+    R = resistance_matrix(pts, tris, np.full(len(tris), 1e-3), *halves, len(cur)).toarray()
+    assert np.allclose(R, R.T, rtol=1e-12, atol=0) and np.linalg.eigvalsh(R).min() > 0
+
+
+def test_bad_shapes_raise():
+    pts, tris = _strip(2e-3, 1e-3)
+    with pytest.raises(ValueError, match="half_vertex"):
+        inductance_matrix(pts, tris, np.tile([0, 1e-5], (4, 1)), [0], [0], np.zeros((2, 2)), [1.0], 1)
