@@ -16,6 +16,7 @@ import time
 
 import numpy as np
 import scipy.linalg as la
+import scipy.sparse as sp
 import scipy.sparse.linalg as spla
 
 from geometry.errors import InputError
@@ -51,7 +52,61 @@ def _potentials(system, drop):
     return phi
 
 
-def solve(system, frequencies, *, title="", keep_currents=True, progress=None):
+def _real_matmul(A, X):
+    """``A @ X`` for a real matrix ``A`` and a complex ``X`` without a complex copy of ``A``."""
+    return A @ X.real + 1j * (A @ X.imag)
+
+
+def near_preconditioner_pattern(Lc, keep=0.02):
+    """Sparse part of the loop inductance: entries above ``keep`` of the geometric mean of their
+    row's and column's diagonal (the strong, near couplings).
+
+    Returns
+    -------
+    scipy.sparse.csc_matrix
+    """
+    d = np.sqrt(np.abs(np.diag(Lc)))
+    rows, cols = np.nonzero(np.abs(Lc) >= keep * np.outer(d, d))
+    return sp.csc_matrix((Lc[rows, cols], (rows, cols)), shape=Lc.shape)
+
+
+class _LoopSolver:
+    """Solves ``(Rc + jw Lc) x = b`` directly (LU) or by GMRES with a sparse near-field
+    preconditioner; the direct path is the reference."""
+
+    def __init__(self, Rc, Lc, method, rtol):
+        self.Rc, self.Lc, self.method, self.rtol = Rc, Lc, method, rtol
+        self.Ln = near_preconditioner_pattern(Lc) if method == "iterative" else None
+        self.iterations = []
+
+    def __call__(self, w, b):
+        if self.method == "direct":
+            Zc = self.Rc.toarray() + 1j * w * self.Lc
+            return la.solve(Zc, b, assume_a="gen", overwrite_a=True, check_finite=False)
+        n = self.Lc.shape[0]
+        lu = spla.splu((self.Rc + 1j * w * self.Ln).tocsc().astype(complex))
+        op = spla.LinearOperator((n, n), dtype=complex,
+                                 matvec=lambda v: self.Rc @ v + 1j * w * _real_matmul(self.Lc, v))
+        pre = spla.LinearOperator((n, n), dtype=complex, matvec=lu.solve)
+        x = np.empty(b.shape, complex)
+        for j in range(b.shape[1]):
+            count = [0]
+
+            def tick(_):
+                count[0] += 1
+
+            x[:, j], info = spla.gmres(op, b[:, j], x0=lu.solve(b[:, j]), rtol=self.rtol,
+                                       atol=0.0, restart=100, maxiter=20, M=pre,
+                                       callback=tick, callback_type="pr_norm")
+            if info != 0:
+                raise RuntimeError(f"GMRES did not reach rtol {self.rtol:g} at "
+                                   f"{w / 2 / np.pi:.4g} Hz after {count[0]} iterations")
+            self.iterations.append(count[0])
+        return x
+
+
+def solve(system, frequencies, *, title="", keep_currents=True, progress=None,
+          method="auto", rtol=1e-8):
     """Solve the system over a frequency sweep.
 
     Parameters
@@ -64,11 +119,19 @@ def solve(system, frequencies, *, title="", keep_currents=True, progress=None):
         Store branch currents and node potentials for maps (memory ``16 F P (B + nodes)``).
     progress : callable, optional
         Called as ``progress(k, n, f)`` after each frequency.
+    method : {"auto", "direct", "iterative"}
+        ``"direct"``: dense LU of the loop system per frequency (the reference);
+        ``"iterative"``: GMRES on the stored loop matrices with a sparse near-field
+        preconditioner, to relative residual ``rtol``; ``"auto"``: direct up to 2,500 loops.
+    rtol : float
+        Relative residual of the iterative path.
 
     Returns
     -------
     solver.result.Result
     """
+    if method not in ("auto", "direct", "iterative"):
+        raise ValueError(f"Invalid method {method!r}, should be one of 'auto', 'direct', 'iterative'")
     f = np.asarray(frequencies, float)
     C = system.basis.loops
     P = system.port_paths
@@ -80,10 +143,14 @@ def solve(system, frequencies, *, title="", keep_currents=True, progress=None):
     Lc = 0.5 * (Lc + Lc.T)
     Rc = (C.T @ R @ C).tocsc()
     bL = np.asarray(CtL @ P)                       # (n, P)
+    del CtL
     bR = np.asarray((C.T @ R @ P).todense())
     LP = np.asarray((P.T @ L).T)                   # L P (L is symmetric)
     pLp = np.asarray(P.T @ LP)
     pRp = np.asarray((P.T @ R @ P).todense())
+    if method == "auto":
+        method = "direct" if Lc.shape[0] <= 2500 else "iterative"
+    loop_solver = _LoopSolver(Rc, Lc, method, rtol)
     reduce_s = time.perf_counter() - t
 
     Z = np.empty((len(f), n_ports, n_ports), complex)
@@ -94,6 +161,7 @@ def solve(system, frequencies, *, title="", keep_currents=True, progress=None):
     Pd = P.toarray()
     for k, freq in enumerate(f):
         t = time.perf_counter()
+        w = 2 * np.pi * freq
         if freq == 0.0:
             try:
                 x = -spla.splu(Rc).solve(bR)
@@ -105,16 +173,14 @@ def solve(system, frequencies, *, title="", keep_currents=True, progress=None):
             dc_inductance = I.T @ (L @ I)
             dc_inductance = 0.5 * (dc_inductance + dc_inductance.T)
         else:
-            w = 2 * np.pi * freq
-            Zc = Rc.toarray() + 1j * w * Lc
             b = bR + 1j * w * bL
-            x = -la.solve(Zc, b, assume_a="sym", overwrite_a=True, check_finite=False)
+            x = -loop_solver(w, b)
             z = pRp + 1j * w * pLp + b.T @ x
             I = C @ x + Pd
         Z[k] = z
         if keep_currents:
             currents[k] = I.T
-            drop = R @ I + (1j * 2 * np.pi * freq) * (L @ I)
+            drop = R @ I + 1j * w * _real_matmul(L, I) if freq > 0 else R @ I
             phi = _potentials(system, drop)
             # Reference: the minus terminal of each driven port at 0 V.
             phi = phi - phi[system.port_nodes[:, 1], np.arange(n_ports)][None, :]
@@ -129,6 +195,8 @@ def solve(system, frequencies, *, title="", keep_currents=True, progress=None):
                      "solve_per_frequency": per_freq},
         "unknowns": {"branches": system.network.n_branches, "nodes": system.network.n_nodes,
                      "loops": system.n_loops},
+        "method": method,
+        "gmres_iterations": loop_solver.iterations,
         "checks": {
             "min_port_resistance_ohm": float(diag.real.min()) if diag.size else None,
             "max_reciprocity_error": float(np.abs(Z - Z.transpose(0, 2, 1)).max()

@@ -1,0 +1,145 @@
+"""All pictures of a solved case (``OUT/maps/*.png``) and the ranked bottlenecks.
+
+:func:`write_maps` is the one call the command line makes. Per port it writes
+
+- ``<port>_RL.png``: R(f) and L(f);
+- per layer, at DC and at the map frequency (see below): ``<port>_<layer>_J_<f>.png`` (current
+  density), ``<port>_<layer>_L_<f>.png`` (inductance share), ``<port>_<layer>_R_<f>.png``
+  (loss share); at DC also ``<port>_<layer>_V_DC.png`` (IR drop).
+
+``<f>`` is ``DC`` or the frequency such as ``1MHz``. The map frequency is the highest swept
+frequency within the quasi-static limit ``c0 / (10 sqrt(4.5) D)``, ``D`` the largest dimension
+of the modelled copper (:func:`solver.post.quasi_static_limit`); where every swept frequency
+lies above it, the lowest one. Bottlenecks are found at the map frequency (at DC when the
+sweep holds DC only).
+"""
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass
+from pathlib import Path
+
+from solver import plot, post
+
+TOP_BOTTLENECKS = 5
+"""Bottlenecks per port returned for ``result.json`` and the report."""
+
+
+@dataclass(frozen=True)
+class MapImage:
+    """One written picture.
+
+    Attributes
+    ----------
+    path : pathlib.Path
+    caption : str
+    port : str
+    layer : str
+        ``""`` for R(f)/L(f) plots.
+    kind : str
+        ``"rl"``, ``"current"``, ``"inductance"``, ``"loss"`` or ``"potential"``.
+    frequency : float or None
+        Hz; ``None`` for R(f)/L(f) plots.
+    """
+
+    path: Path
+    caption: str
+    port: str
+    layer: str
+    kind: str
+    frequency: float | None
+
+
+def safe_name(text):
+    """A file-name-safe form of a port or layer name.
+
+    Examples
+    --------
+    >>> safe_name("hot loop/L1")
+    'hot_loop_L1'
+    """
+    return re.sub(r"[^A-Za-z0-9_.+-]+", "_", str(text)).strip("_") or "_"
+
+
+def map_frequencies(mesh, case, result):
+    """Sweep indices to draw: ``(dc_index, map_index)``, either ``None`` when absent.
+
+    Returns
+    -------
+    tuple
+        ``(dc_index, map_index, f_limit_hz, largest_dimension_m)``.
+    """
+    f_lim, d = post.quasi_static_limit(mesh, case.layout.layers)
+    return post.dc_index(result.frequencies), post.map_frequency_index(result.frequencies, f_lim), f_lim, d
+
+
+_KINDS = (
+    ("current", "J", plot.current_density_map, "sheet current density |J|"),
+    ("inductance", "L", plot.inductance_share_map, "inductance share per area"),
+    ("loss", "R", plot.loss_share_map, "ohmic loss share per area"),
+)
+
+
+def write_maps(out_dir, case, mesh, system, result):
+    """Write every map and R(f)/L(f) plot into ``out_dir/maps`` and rank the bottlenecks.
+
+    Parameters
+    ----------
+    out_dir : str or os.PathLike
+    case : geometry.model.Case
+    mesh : geometry.mesh.Mesh
+    system : solver.system.System
+    result : solver.result.Result
+        Solved with ``keep_currents=True`` (without currents only the R(f)/L(f) plots are drawn).
+
+    Returns
+    -------
+    images : list of MapImage
+    bottlenecks : list of dict
+        The top :data:`TOP_BOTTLENECKS` of each port, JSON-ready (lengths in the case's units,
+        shares as fractions), with ``rank`` (1 = largest inductance share).
+    """
+    folder = Path(out_dir) / "maps"
+    dc, fmap, f_lim, d = map_frequencies(mesh, case, result)
+    images, bottlenecks = [], []
+    for k, port in enumerate(result.ports):
+        path = folder / f"{safe_name(port)}_RL.png"
+        plot.impedance_plot(path, result, k, f_limit=f_lim)
+        images.append(MapImage(path, f"Port {port}: R(f) and L(f); dashed lines: DC values.",
+                               port, "", "rl", None))
+        if result.currents is None:
+            continue
+        rank_at = fmap if fmap is not None else dc
+        for fi in dict.fromkeys(i for i in (dc, fmap) if i is not None):
+            maps = post.port_maps(mesh, system, result, freq_index=fi, port_index=k,
+                                  layout=case.layout, lumped=case.lumped)
+            found = post.find_bottlenecks(mesh, maps)[:TOP_BOTTLENECKS]
+            if fi == rank_at:
+                bottlenecks += [b.as_dict(case.unit_scale, rank=n + 1) for n, b in enumerate(found)]
+            images += _port_maps(folder, case, mesh, maps, found, fi == dc, f_lim, d)
+    return images, bottlenecks
+
+
+def _port_maps(folder, case, mesh, maps, found, is_dc, f_lim, d):
+    """The maps of one port at one frequency, every layer."""
+    label = plot.format_frequency(maps.frequency, sep="")
+    why = ("" if is_dc else f" (highest swept frequency within the quasi-static limit "
+                            f"{plot.format_frequency(f_lim)} for D = {d / case.unit_scale:.3g} {case.unit})")
+    out = []
+    for li, layer in enumerate(mesh.layer_names):
+        if not (mesh.tri_layer == li).any():
+            continue
+        stem = f"{safe_name(maps.port)}_{safe_name(layer)}"
+        for kind, tag, draw, words in _KINDS:
+            path = folder / f"{stem}_{tag}_{label}.png"
+            draw(path, mesh, case, maps, layer_index=li, markers=found)
+            out.append(MapImage(path, f"Port {maps.port}, layer {layer}, "
+                                      f"{plot.format_frequency(maps.frequency)}{why}: {words}.",
+                                maps.port, layer, kind, maps.frequency))
+        if is_dc:
+            path = folder / f"{stem}_V_DC.png"
+            plot.ir_drop_map(path, mesh, case, maps, layer_index=li)
+            out.append(MapImage(path, f"Port {maps.port}, layer {layer}, DC: IR drop "
+                                      "(potential per ampere of port current).",
+                                maps.port, layer, "potential", 0.0))
+    return out

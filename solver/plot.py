@@ -1,0 +1,345 @@
+"""Pictures of the solved copper: per-layer maps and R(f), L(f) plots (PNG).
+
+matplotlib is imported inside the functions and drives an Agg canvas through
+:class:`matplotlib.figure.Figure` (no pyplot state, nothing left open). Every file is written
+to a temporary name and renamed (:func:`solver.files.atomic_path`).
+
+Maps are drawn with flat per-triangle colours (``tripcolor``), perceptually uniform colour maps
+(:data:`CMAPS`, never a rainbow), axes in the case's length unit, the copper outline (mesh
+boundary), terminals and via pads shaded grey (equipotential: no modelled current inside),
+via drills as white dots, numbered bottleneck markers and a scale bar. Map values are per ampere
+of port current: current density in A/mm, inductance share per area in nH/mm^2, loss share per
+area in mohm/mm^2 (mW/mm^2 at 1 A), potential in mV.
+"""
+from __future__ import annotations
+
+import math
+
+import numpy as np
+
+from solver.files import atomic_path
+
+CMAPS = {"current": "magma", "inductance": "cividis", "loss": "inferno", "potential": "viridis"}
+"""Colour map of each kind of map (matplotlib names; all perceptually uniform)."""
+LOG_DECADES = 2.0
+"""Range of the logarithmic current-density scale below its maximum."""
+ARROWS_ACROSS = 28
+"""Direction arrows along the longer side of a layer."""
+ARROW_MIN_FRACTION = 0.03
+"""Arrows are drawn where |J| exceeds this fraction of the layer's maximum."""
+DPI = 130
+MIN_RELATIVE_SPAN = 0.02
+"""R(f) and L(f) axes span at least this fraction of the largest value (no magnified noise)."""
+
+
+def format_frequency(f, sep=" "):
+    """``0 -> "DC"``, ``1e6 -> "1 MHz"``, ``2.5e3 -> "2.5 kHz"``.
+
+    Examples
+    --------
+    >>> format_frequency(1e6), format_frequency(0), format_frequency(2.5e3, sep="")
+    ('1 MHz', 'DC', '2.5kHz')
+    """
+    if f == 0:
+        return "DC"
+    for scale, prefix in ((1e9, "G"), (1e6, "M"), (1e3, "k"), (1.0, "")):
+        if abs(f) >= scale:
+            return f"{f / scale:.3g}{sep}{prefix}Hz"
+    return f"{f:.3g}{sep}Hz"
+
+
+def _nice_length(span):
+    """A 1-2-5 length near a fifth of ``span``."""
+    target = span / 5.0
+    base = 10.0 ** math.floor(math.log10(target))
+    for k in (5, 2, 1):
+        if k * base <= target:
+            return k * base
+    return base
+
+
+def _layer_view(mesh, layer_index):
+    """Triangles of one layer, re-indexed onto the points they use."""
+    tris = np.flatnonzero(mesh.tri_layer == layer_index)
+    used, local = np.unique(mesh.triangles[tris], return_inverse=True)
+    return tris, mesh.points[used], local.reshape(-1, 3)
+
+
+def _boundary_segments(points, local):
+    """Segments of the layer outline: triangle edges used once."""
+    e = np.sort(np.concatenate([local[:, [0, 1]], local[:, [1, 2]], local[:, [2, 0]]]), axis=1)
+    uniq, counts = np.unique(e, axis=0, return_counts=True)
+    return points[uniq[counts == 1]]
+
+
+def _arrows(ax, points, local, tris, vectors, bulk, scale):
+    """Unit direction arrows of ``Re(vectors)`` on a coarse regular grid over the layer."""
+    from matplotlib.tri import Triangulation
+
+    tri = Triangulation(points[:, 0] / scale, points[:, 1] / scale, local)
+    lo, hi = points.min(axis=0) / scale, points.max(axis=0) / scale
+    step = max(hi - lo) / ARROWS_ACROSS
+    gx = np.arange(lo[0] + step / 2, hi[0], step)
+    gy = np.arange(lo[1] + step / 2, hi[1], step)
+    X, Y = np.meshgrid(gx, gy)
+    found = tri.get_trifinder()(X.ravel(), Y.ravel())
+    ok = found >= 0
+    k = found[ok]
+    v = vectors[tris[k]].real
+    mag = np.hypot(v[:, 0], v[:, 1])
+    ref = np.abs(vectors[tris]).max() if len(tris) else 0.0
+    keep = bulk[tris[k]] & (mag > ARROW_MIN_FRACTION * max(ref, 1e-300))
+    if not keep.any():
+        return
+    u = v[keep] / mag[keep, None] * (0.75 * step)
+    ax.quiver(X.ravel()[ok][keep], Y.ravel()[ok][keep], u[:, 0], u[:, 1], angles="xy",
+              scale_units="xy", scale=1.0, pivot="middle", color="white", edgecolor="black",
+              linewidth=0.4, width=0.004, headwidth=4.0, headlength=4.5, zorder=4)
+
+
+def _decorate(ax, mesh, case, layer_index, tris, points, local, markers, shade):
+    """Outline, terminals and via pads (grey where ``shade``), drills, markers, scale bar, labels."""
+    from matplotlib.collections import LineCollection, PolyCollection
+    from mpl_toolkits.axes_grid1.anchored_artists import AnchoredSizeBar
+
+    scale, unit = case.unit_scale, case.unit
+    layer = mesh.layer_names[layer_index]
+    region = mesh.tri_region[tris]
+    inside = region >= 0
+    if inside.any() and shade:
+        polys = points[local[inside]] / scale
+        ax.add_collection(PolyCollection(polys, facecolors="#c8c8c8", edgecolors="#c8c8c8",
+                                         linewidths=0.2, hatch="////", zorder=2))
+    if inside.any():
+        cent = mesh.centroids[tris] / scale
+        for r in np.unique(region[inside]):
+            name = mesh.region_names[r]
+            if not name.startswith("terminal:"):
+                continue
+            at = cent[region == r].mean(axis=0)
+            ax.text(at[0], at[1], name.split(":", 1)[1], ha="center", va="center", fontsize=8,
+                    zorder=6, bbox=dict(boxstyle="round,pad=0.2", fc="white", ec="#555555", lw=0.5))
+    ax.add_collection(LineCollection(_boundary_segments(points, local) / scale, colors="black",
+                                     linewidths=0.7, zorder=3))
+    for via in case.layout.vias:
+        if layer in (via.connects or via.span):
+            ax.add_patch(_circle(via.x / scale, via.y / scale, 0.5 * via.drill / scale))
+    for n, b in enumerate(markers, start=1):
+        if b.layer == layer or layer in b.layer.split("-"):
+            ax.text(b.x / scale, b.y / scale, str(n), ha="center", va="center", fontsize=9,
+                    fontweight="bold", color="black", zorder=7,
+                    bbox=dict(boxstyle="circle,pad=0.25", fc="#ffffffdd", ec="#0066cc", lw=1.5))
+    lo, hi = points.min(axis=0) / scale, points.max(axis=0) / scale
+    length = _nice_length(max(hi - lo))
+    ax.add_artist(AnchoredSizeBar(ax.transData, length, f"{length:g} {unit}", "lower right",
+                                  pad=0.4, borderpad=0.6, sep=3, frameon=True, size_vertical=0))
+    pad = 0.04 * max(hi - lo)
+    ax.set_xlim(lo[0] - pad, hi[0] + pad)
+    ax.set_ylim(lo[1] - pad - 0.12 * (hi[1] - lo[1] + pad), hi[1] + pad)
+    ax.set_aspect("equal")
+    ax.set_xlabel(f"x ({unit})")
+    ax.set_ylabel(f"y ({unit})")
+
+
+def _circle(x, y, r):
+    from matplotlib.patches import Circle
+
+    return Circle((x, y), r, facecolor="white", edgecolor="black", linewidth=0.6, zorder=5)
+
+
+def _figure(points):
+    from matplotlib.figure import Figure
+
+    span = np.ptp(points, axis=0)
+    aspect = float(np.clip(span[1] / max(span[0], 1e-300), 0.12, 1.5))
+    return Figure(figsize=(8.0, 1.2 + 6.4 * aspect))
+
+
+def layer_map(path, mesh, case, values, *, layer_index, title, label, cmap, log=False,
+              mask_regions=True, vectors=None, markers=(), note=None):
+    """Draw one per-triangle quantity on one layer and save it as a PNG.
+
+    Parameters
+    ----------
+    path : str or os.PathLike
+        PNG file to write (atomically).
+    mesh : geometry.mesh.Mesh
+    case : geometry.model.Case
+        For the unit, the vias and the layer names.
+    values : ndarray, shape (M,)
+        Display values per mesh triangle (already in display units).
+    layer_index : int
+    title, label : str
+        Figure title and colour-bar label.
+    cmap : str
+        matplotlib colour map name.
+    log : bool
+        Logarithmic colour scale over :data:`LOG_DECADES` below the maximum.
+    mask_regions : bool
+        Shade terminal and via-pad triangles grey instead of colouring them.
+    vectors : ndarray of complex, shape (M, 2), optional
+        Draw the direction of ``Re(vectors)`` as arrows.
+    markers : sequence of solver.post.Bottleneck
+        Numbered in order, on their layer.
+    note : str, optional
+        A line of small text under the axes.
+
+    Returns
+    -------
+    pathlib.Path
+    """
+    from matplotlib.colors import LogNorm, Normalize
+
+    tris, points, local = _layer_view(mesh, layer_index)
+    scale = case.unit_scale
+    vals = np.asarray(values, float)[tris]
+    bulk = mesh.tri_region < 0
+    show = bulk[tris] if mask_regions else np.ones(len(tris), bool)
+    shown = vals[show]
+    top = float(np.nanmax(shown)) if shown.size else 0.0
+    if log and top > 0:
+        norm = LogNorm(vmin=top * 10.0**-LOG_DECADES, vmax=top)
+        vals = np.clip(vals, norm.vmin, None)
+    else:
+        low = float(np.nanmin(shown)) if shown.size else 0.0
+        norm = Normalize(vmin=min(low, 0.0) if not log else 0.0, vmax=top if top > low else low + 1.0)
+    fig = _figure(points)
+    ax = fig.add_subplot()
+    coll = ax.tripcolor(points[:, 0] / scale, points[:, 1] / scale, local[show],
+                        facecolors=vals[show], cmap=cmap, norm=norm, edgecolors="none", zorder=1)
+    fig.colorbar(coll, cax=ax.inset_axes([1.02, 0.0, 0.025, 1.0]), label=label)
+    if vectors is not None:
+        _arrows(ax, points, local, tris, np.asarray(vectors), bulk, scale)
+    _decorate(ax, mesh, case, layer_index, tris, points, local, markers, mask_regions)
+    ax.set_title(title, fontsize=10)
+    if note:
+        ax.annotate(note, xy=(0.0, 0.0), xycoords=("axes fraction", ax.xaxis.label), xytext=(0.0, -4.0),
+                    textcoords="offset points", ha="left", va="top", fontsize=7.5,
+                    color="#444444", annotation_clip=False)
+    with atomic_path(path) as tmp:
+        fig.savefig(tmp, dpi=DPI, format="png", bbox_inches="tight", pad_inches=0.15)
+    return path
+
+
+def _head(maps, layer):
+    return f"Port {maps.port}, layer {layer}, {format_frequency(maps.frequency)}"
+
+
+def current_density_map(path, mesh, case, maps, *, layer_index, markers=(), log=True):
+    """|J| (A/mm per ampere of port current) with direction arrows; see :func:`layer_map`."""
+    layer = mesh.layer_names[layer_index]
+    mag = np.sqrt((np.abs(maps.current_density) ** 2).sum(axis=1)) * 1e-3
+    scale_word = "log scale" if log else "linear scale"
+    return layer_map(path, mesh, case, mag, layer_index=layer_index, log=log,
+                     title=f"{_head(maps, layer)}: sheet current density |J| in A/mm per A ({scale_word})",
+                     label="|J| (A/mm per A of port current)", cmap=CMAPS["current"],
+                     vectors=maps.current_density, markers=markers,
+                     note="Arrows: current direction (in phase with the port current). "
+                          "Grey hatched: terminals and via pads (equipotential). "
+                          "Numbers: bottlenecks.")
+
+
+def _negative_note(share, total_unit, unit_name):
+    neg = -share[share < 0].sum()
+    pos = share[share > 0].sum()
+    if pos > 0 and neg > 0.01 * pos:
+        return (f"Negative shares (currents opposing the loop, e.g. eddy currents; "
+                f"{neg * total_unit:.3g} {unit_name} in all) shown at the bottom of the scale. ")
+    return ""
+
+
+def inductance_share_map(path, mesh, case, maps, *, layer_index, markers=()):
+    """Inductance share per area (nH/mm^2 per A^2 of port current); see :func:`layer_map`."""
+    layer = mesh.layer_names[layer_index]
+    density = maps.inductance_share / mesh.areas * 1e3          # H/m^2 -> nH/mm^2
+    on_layer = maps.inductance_share[mesh.tri_layer == layer_index].sum()
+    note = (_negative_note(maps.inductance_share[mesh.tri_layer == layer_index], 1e9, "nH")
+            + f"This layer holds {on_layer * 1e9:.4g} nH of the port's {maps.inductance * 1e9:.4g} nH."
+            " Numbers: bottlenecks.")
+    return layer_map(path, mesh, case, np.clip(density, 0.0, None), layer_index=layer_index,
+                     title=f"{_head(maps, layer)}: inductance share in nH/mm$^2$ (where the loop L lives)",
+                     label="inductance share (nH/mm$^2$)", cmap=CMAPS["inductance"],
+                     markers=markers, note=note)
+
+
+def loss_share_map(path, mesh, case, maps, *, layer_index, markers=()):
+    """Ohmic loss per area (mohm/mm^2 = mW/mm^2 at 1 A); see :func:`layer_map`."""
+    layer = mesh.layer_names[layer_index]
+    density = maps.resistance_share / mesh.areas * 1e-3         # ohm/m^2 -> mohm/mm^2
+    on_layer = maps.resistance_share[mesh.tri_layer == layer_index].sum()
+    note = (f"This layer holds {on_layer * 1e3:.4g} mohm of the port's "
+            f"{maps.resistance * 1e3:.4g} mohm (mW per A^2 of port current).")
+    return layer_map(path, mesh, case, density, layer_index=layer_index,
+                     title=f"{_head(maps, layer)}: ohmic loss share in m$\\Omega$/mm$^2$",
+                     label="loss share (m$\\Omega$/mm$^2$ = mW/mm$^2$ at 1 A)", cmap=CMAPS["loss"],
+                     markers=markers, note=note)
+
+
+def ir_drop_map(path, mesh, case, maps, *, layer_index):
+    """Potential (mV per ampere of port current, minus terminal at 0); see :func:`layer_map`."""
+    layer = mesh.layer_names[layer_index]
+    mv = maps.potential.real * 1e3
+    return layer_map(path, mesh, case, mv, layer_index=layer_index, mask_regions=False,
+                     title=f"{_head(maps, layer)}: IR drop in mV per A of port current",
+                     label="potential (mV per A of port current)", cmap=CMAPS["potential"],
+                     note=f"Minus terminal of port {maps.port} at 0 mV; the plus terminal is at "
+                          f"{maps.resistance * 1e3:.4g} mV (R x 1 A).")
+
+
+def _min_span(ax, y, fraction):
+    """Widen the y-limits to at least ``fraction`` of ``max |y|`` about the data's middle."""
+    y = np.asarray(y, float)
+    y = y[np.isfinite(y)]
+    if not y.size:
+        return
+    lo, hi = ax.get_ylim()
+    need = fraction * np.abs(y).max()
+    if hi - lo < need:
+        mid = 0.5 * (y.min() + y.max())
+        ax.set_ylim(mid - 0.5 * need, mid + 0.5 * need)
+
+
+def impedance_plot(path, result, port_index, *, f_limit=None):
+    """R(f) in mohm and L(f) in nH of one port, log frequency axis, DC values dashed.
+
+    Parameters
+    ----------
+    path : str or os.PathLike
+    result : solver.result.Result
+    port_index : int
+    f_limit : float, optional
+        Quasi-static limit in Hz, drawn as a vertical line where it falls in the plot.
+
+    Returns
+    -------
+    pathlib.Path
+    """
+    from matplotlib.figure import Figure
+
+    f = result.frequencies
+    k = port_index
+    series = ((result.resistance[:, k, k] * 1e3, "R (m$\\Omega$)", "#1b4f72"),
+              (result.inductance[:, k, k] * 1e9, "L (nH)", "#7b241c"))
+    fig = Figure(figsize=(7.0, 5.6), layout="constrained")
+    axes = fig.subplots(2, 1, sharex=True)
+    pos = f > 0
+    for ax, (y, label, colour) in zip(axes, series):
+        if pos.any():
+            ax.semilogx(f[pos], y[pos], "o-", color=colour, ms=4, lw=1.4, label="swept")
+        for i in np.flatnonzero(~pos):
+            ax.axhline(y[i], color=colour, ls="--", lw=1.0, label=f"DC: {y[i]:.4g}")
+        if f_limit is not None and pos.any() and f[pos].min() < f_limit < 10 * f[pos].max():
+            ax.axvline(f_limit, color="#777777", ls=":", lw=1.0, label="quasi-static limit")
+        if not pos.any():
+            ax.set_xscale("log")
+            ax.set_xlim(1.0, 1e9)
+        ax.set_ylabel(label)
+        ax.ticklabel_format(axis="y", style="plain", useOffset=False)
+        _min_span(ax, y, MIN_RELATIVE_SPAN)
+        ax.grid(True, which="both", color="#dddddd", lw=0.5)
+        ax.legend(fontsize=8, loc="best")
+    axes[-1].set_xlabel("frequency (Hz)")
+    axes[0].set_title(f"Port {result.ports[k]}: resistance and inductance", fontsize=10)
+    with atomic_path(path) as tmp:
+        fig.savefig(tmp, dpi=DPI, format="png")
+    return path

@@ -1,0 +1,220 @@
+"""``report.html`` (self-contained) and ``report.md`` of a solved case.
+
+The HTML embeds every picture as a base64 data URI and carries its own CSS: it opens from a
+mail attachment or an archive with no network and no JavaScript. The Markdown version refers to
+the pictures by relative path (``maps/...``). Both are written atomically.
+
+Other stages add sections without editing this module: ``extra_sections`` is a list of
+``(title, html, markdown)`` placed after the bottlenecks and before the warnings (the variant
+comparison and the circuit estimates use it).
+"""
+from __future__ import annotations
+
+import base64
+import html
+import os
+from pathlib import Path
+
+import numpy as np
+
+from solver.files import write_text
+
+CAUTION = (
+    "copperpath estimates the resistance and inductance of copper from a quasi-static field "
+    "model. Its results are no substitute for measurement of the built board. It does not check "
+    "safety spacing: creepage, clearance and insulation of mains-connected or high-voltage "
+    "converters must follow the applicable standards (e.g. IEC 62368-1, IPC-2221) and local "
+    "codes. The design remains the responsibility of a qualified engineer."
+)
+"""The caution every report carries (DESIGN s.8)."""
+
+_CSS = """
+body{font-family:system-ui,-apple-system,"Segoe UI",Roboto,"Helvetica Neue",Arial,sans-serif;
+ color:#222;background:#fafafa;margin:0;line-height:1.45}
+main{max-width:1100px;margin:0 auto;padding:24px 28px 48px;background:#fff}
+h1{font-size:1.6em;margin:0 0 4px}h2{font-size:1.25em;border-bottom:1px solid #ddd;
+ padding-bottom:4px;margin-top:2em}h3{font-size:1.05em;margin-top:1.5em}
+.sub{color:#666;margin:0 0 16px}
+table{border-collapse:collapse;margin:8px 0 16px;font-size:.92em}
+th,td{border:1px solid #d6d6d6;padding:4px 10px;text-align:right}
+th{background:#f0f0f0;font-weight:600}td.l,th.l{text-align:left}
+figure{margin:12px 0 24px}figure img{max-width:100%;border:1px solid #e2e2e2}
+figcaption{color:#555;font-size:.88em;margin-top:4px}
+.caution{border-left:4px solid #8a6d3b;background:#f7f3ea;padding:10px 14px;margin:16px 0}
+.warn{border-left:4px solid #a94442;background:#f8eeee;padding:8px 14px}
+code{font-family:ui-monospace,Menlo,Consolas,monospace;font-size:.92em}
+"""
+
+
+def _esc(text):
+    return html.escape(str(text), quote=True)
+
+
+def _eng(value, unit, digits=4):
+    """``0.0123, "ohm" -> "12.3 mohm"`` (HTML-free text)."""
+    if value is None or not np.isfinite(value):
+        return "-"
+    for scale, prefix in ((1e-12, "p"), (1e-9, "n"), (1e-6, "u"), (1e-3, "m"), (1.0, ""), (1e3, "k"),
+                          (1e6, "M"), (1e9, "G")):
+        if abs(value) < 1000 * scale:
+            return f"{value / scale:.{digits}g} {prefix}{unit}"
+    return f"{value:.{digits}g} {unit}"
+
+
+def _freq(f):
+    return "DC" if f == 0 else _eng(f, "Hz")
+
+
+def _table(head, rows, left=1):
+    """A table as (HTML, Markdown); the first ``left`` columns are left-aligned."""
+    def cls(k):
+        return ' class="l"' if k < left else ""
+    h = ["<table><tr>" + "".join(f"<th{cls(k)}>{_esc(c)}</th>" for k, c in enumerate(head)) + "</tr>"]
+    for row in rows:
+        h.append("<tr>" + "".join(f"<td{cls(k)}>{_esc(c)}</td>" for k, c in enumerate(row)) + "</tr>")
+    h.append("</table>")
+    md = ["| " + " | ".join(head) + " |",
+          "|" + "|".join(":---" if k < left else "---:" for k in range(len(head))) + "|"]
+    md += ["| " + " | ".join(str(c).replace("|", "/") for c in row) + " |" for row in rows]
+    return "\n".join(h), "\n".join(md)
+
+
+def _case_tables(case, summary):
+    """Stackup, items and mesh size."""
+    u = case.unit
+    s = case.unit_scale
+    rows = [(la.name, f"{la.z / s:.4g}", f"{la.thickness * 1e6:.3g}", f"{la.conductivity:.4g}",
+             str(la.sublayers)) for la in case.layout.layers]
+    parts = [_table(["layer", f"z ({u})", "thickness (um)", "conductivity (S/m)", "sublayers"], rows)]
+    items = [("vias", str(len(case.layout.vias))),
+             ("terminals", ", ".join(t.name for t in case.layout.terminals) or "-"),
+             ("ports", "; ".join(f"{p.name}: {p.plus} -> {p.minus}" for p in case.ports) or "-"),
+             ("lumped", "; ".join(f"{x.name} ({x.between[0]}-{x.between[1]}, "
+                                  f"{_eng(x.resistance, 'ohm')}, {_eng(x.inductance, 'H')})"
+                                  for x in case.lumped) or "-"),
+             ("frequencies", ", ".join(_freq(f) for f in case.frequencies))]
+    mesh = (summary or {}).get("mesh") or {}
+    if mesh:
+        items.append(("mesh", ", ".join(f"{v} {k}" for k, v in mesh.items())))
+    timing = (summary or {}).get("timing_s") or {}
+    if timing:
+        items.append(("time", ", ".join(f"{k} {v:.3g} s" for k, v in timing.items()
+                                        if isinstance(v, (int, float)))))
+    parts.append(_table(["item", "value"], items, left=2))
+    return parts
+
+
+def _rl_tables(case, result):
+    out = []
+    r, ell = result.resistance, result.inductance
+    for k, name in enumerate(result.ports):
+        rows = [(_freq(f), f"{r[i, k, k] * 1e3:.5g}", f"{ell[i, k, k] * 1e9:.5g}")
+                for i, f in enumerate(result.frequencies)]
+        out.append((f"Port {name}", _table(["frequency", "R (mohm)", "L (nH)"], rows)))
+    return out
+
+
+def _bottleneck_table(bottlenecks, unit):
+    rows = []
+    for b in bottlenecks:
+        where = b.get("name") or "-"
+        rows.append((str(b.get("rank", "")), b["port"], b.get("kind", ""), where, b["layer"],
+                     f"{b['x']:.4g}", f"{b['y']:.4g}", f"{100 * b['inductance_share']:.1f}",
+                     _eng(b.get("inductance_h"), "H", 3), f"{100 * b['resistance_share']:.1f}",
+                     f"{b.get('area', 0.0):.3g}", _freq(b.get("frequency_hz", 0.0))))
+    return _table(["#", "port", "kind", "item", "layer", f"x ({unit})", f"y ({unit})",
+                   "L share (%)", "L", "R share (%)", f"area ({unit}^2)", "at"], rows, left=5)
+
+
+def _image(item):
+    """(path, caption) of a MapImage or a plain path."""
+    path = Path(getattr(item, "path", item))
+    return path, getattr(item, "caption", path.stem)
+
+
+def _figure_html(path, caption):
+    data = base64.b64encode(path.read_bytes()).decode("ascii")
+    return (f'<figure><img alt="{_esc(caption)}" src="data:image/png;base64,{data}">'
+            f"<figcaption>{_esc(caption)}</figcaption></figure>")
+
+
+def _figure_md(path, caption, out_dir):
+    rel = Path(os.path.relpath(path, out_dir)).as_posix()
+    return f"![{caption}]({rel})\n\n*{caption}*"
+
+
+def write_report(out_dir, case, result, summary=None, images=(), *, bottlenecks=None,
+                 warnings=(), extra_sections=()):
+    """Write ``report.html`` and ``report.md`` into ``out_dir``.
+
+    Parameters
+    ----------
+    out_dir : str or os.PathLike
+    case : geometry.model.Case
+    result : solver.result.Result
+    summary : dict, optional
+        The ``result.json`` data (``mesh``, ``timing_s``, ``bottlenecks``).
+    images : sequence of solver.maps.MapImage or path
+        Pictures, in order; those of kind ``"rl"`` go to the R(f)/L(f) section.
+    bottlenecks : sequence of dict, optional
+        As in ``result.json``; default ``summary["bottlenecks"]``.
+    warnings : sequence of str
+        Shown with the case's own warnings.
+    extra_sections : sequence of (str, str, str)
+        ``(title, html, markdown)`` sections added after the bottlenecks.
+
+    Returns
+    -------
+    tuple of pathlib.Path
+        ``(report.html, report.md)``.
+    """
+    out_dir = Path(out_dir)
+    out_dir.mkdir(parents=True, exist_ok=True)
+    if bottlenecks is None:
+        bottlenecks = (summary or {}).get("bottlenecks", [])
+    sections = []                                     # (title, [(html, md), ...])
+    sections.append(("Case", _case_tables(case, summary)))
+    rl = [(f"<h3>{_esc(t)}</h3>\n{h}", f"### {t}\n\n{m}") for t, (h, m) in _rl_tables(case, result)]
+    rl.append(("<p>L is Im Z / (2 pi f) above DC and the DC-limit inductance at DC; R is Re Z. "
+               "The full impedance matrix is in <code>result.json</code>.</p>",
+               "L is Im Z / (2 pi f) above DC and the DC-limit inductance at DC; R is Re Z. "
+               "The full impedance matrix is in `result.json`."))
+    sections.append(("Resistance and inductance", rl))
+    pics = [_image(x) + (getattr(x, "kind", ""),) for x in images]
+    sections.append(("R(f) and L(f)", [(_figure_html(p, c), _figure_md(p, c, out_dir))
+                                       for p, c, k in pics if k == "rl"]))
+    if bottlenecks:
+        h, m = _bottleneck_table(bottlenecks, case.unit)
+        text = ("Regions of copper, vias and lumped branches that hold the largest parts of each "
+                "port's loop inductance (numbered on the maps). Shares are fractions of the port's "
+                "own L and R at the frequency given.")
+        sections.append(("Bottlenecks", [(f"<p>{_esc(text)}</p>\n{h}", f"{text}\n\n{m}")]))
+    maps = [(_figure_html(p, c), _figure_md(p, c, out_dir)) for p, c, k in pics if k != "rl"]
+    if maps:
+        sections.append(("Maps", maps))
+    for title, h, m in extra_sections:
+        sections.append((title, [(h, m)]))
+    all_warnings = list(case.warnings) + list(warnings)
+    if all_warnings:
+        items = "".join(f"<li>{_esc(w)}</li>" for w in all_warnings)
+        sections.append(("Warnings", [(f'<div class="warn"><ul>{items}</ul></div>',
+                                       "\n".join(f"- {w}" for w in all_warnings))]))
+    sections.append(("Cautions", [(f'<div class="caution">{_esc(CAUTION)}</div>', f"> {CAUTION}")]))
+
+    sub = (f"copperpath report of {Path(case.path).name}. Estimates from a field model, per ampere "
+           "of port current; read the cautions at the end.")
+    body = [f"<h1>{_esc(case.title or Path(case.path).stem)}</h1>", f'<p class="sub">{_esc(sub)}</p>']
+    md = [f"# {case.title or Path(case.path).stem}", "", sub, ""]
+    for title, parts in sections:
+        body.append(f"<h2>{_esc(title)}</h2>")
+        md += [f"## {title}", ""]
+        for h, m in parts:
+            body.append(h)
+            md += [m, ""]
+    page = ("<!DOCTYPE html>\n<html lang=\"en\"><head><meta charset=\"utf-8\">"
+            f"<title>{_esc(case.title)} - copperpath report</title><style>{_CSS}</style></head>"
+            "<body><main>\n" + "\n".join(body) + "\n</main></body></html>\n")
+    html_path, md_path = out_dir / "report.html", out_dir / "report.md"
+    write_text(html_path, page)
+    write_text(md_path, "\n".join(md).rstrip() + "\n")
+    return html_path, md_path
