@@ -267,7 +267,7 @@ class SizeField:
         return max(self.max_edge - h0, 0.0) / GRADING
 
 
-def size_field(copper, regions, options: MeshOptions) -> SizeField:
+def size_field(copper, regions, options: MeshOptions, facing=None) -> SizeField:
     """Build the :class:`SizeField` of one layer.
 
     Parameters
@@ -277,6 +277,10 @@ def size_field(copper, regions, options: MeshOptions) -> SizeField:
     regions : sequence of Region
         The layer's regions.
     options : MeshOptions
+    facing : shapely geometry, optional
+        Copper of the neighbouring layers. Edges of this layer's copper that lie over it face
+        another conductor: at high frequency the current crowds there, so they get
+        ``min_edge`` (straight edges facing nothing are not refined).
 
     Returns
     -------
@@ -292,6 +296,10 @@ def size_field(copper, regions, options: MeshOptions) -> SizeField:
         xy = shapely.get_coordinates(shapely.segmentize(shapely.boundary(union), 0.5 * lo))
         inner = shapely.buffer(copper, -0.05 * lo, quad_segs=2)
         pts.append(xy[shapely.contains_xy(inner, xy[:, 0], xy[:, 1])])
+    if facing is not None and not facing.is_empty and not copper.is_empty:
+        xy = shapely.get_coordinates(shapely.segmentize(copper.boundary, 0.5 * lo))
+        shapely.prepare(facing)
+        pts.append(xy[shapely.contains_xy(facing, xy[:, 0], xy[:, 1])])
     pts = np.concatenate(pts)
     levels = []
     r = lo / WIDTH_FACTOR
@@ -345,10 +353,13 @@ def triangulate(layout: Layout, options: MeshOptions = MeshOptions()) -> Mesh:
     regions = layout_regions(layout)
     points, tris, tri_layer, tri_region = [], [], [], []
     offset = 0
+    coppers = [layer_copper(layout, layer.name) for layer in layout.layers]
     for index, layer in enumerate(layout.layers):
-        copper = layer_copper(layout, layer.name)
+        copper = coppers[index]
         mine = [(k, r) for k, r in enumerate(regions) if r.layer == layer.name]
-        field = size_field(copper, [r for _, r in mine], options)
+        neighbours = [coppers[k] for k in (index - 1, index + 1) if 0 <= k < len(coppers)]
+        facing = shapely.union_all(neighbours) if neighbours else None
+        field = size_field(copper, [r for _, r in mine], options, facing)
         for poly in shapely.get_parts(copper):
             if not isinstance(poly, shapely.Polygon) or poly.area <= 0.0:
                 continue

@@ -12,6 +12,8 @@ import time
 import traceback
 from pathlib import Path
 
+import numpy as np
+
 from geometry.errors import InputError
 
 
@@ -48,8 +50,6 @@ def run_case(case, out, *, freqs=None, quiet=False, write=True):
     from solver.sweep import solve
     from solver.system import assemble
 
-    import numpy as np
-
     frequencies = np.asarray(freqs if freqs else case.frequencies, float)
     timing = {}
     t = time.perf_counter()
@@ -72,6 +72,8 @@ def _cmd_solve(args):
     from solver.outputs import format_table
 
     case = load_case(args.case)
+    for line in case.notes:
+        print(f"note: {line}")
     for line in case.warnings:
         print(f"warning: {line}", file=sys.stderr)
     out = _out_dir(args, args.case)
@@ -85,6 +87,8 @@ def _cmd_inspect(args):
     from geometry.case import load_case
 
     case = load_case(args.case)
+    for line in case.notes:
+        print(f"note: {line}")
     for line in case.warnings:
         print(f"warning: {line}", file=sys.stderr)
 
@@ -98,6 +102,95 @@ def _cmd_inspect(args):
     from solver.outputs import format_inspect
     print(format_inspect(case, info))
     print(f"wrote {out}/")
+    return 0
+
+
+def _side_by_side(out, solved, comparison):
+    """Current-density maps of the compared port, one panel per case, one colour scale, on every
+    layer that the port's plus terminal or any case's copper uses; returns (path, caption) pairs."""
+    from solver import post
+    from solver.maps import map_frequencies, safe_name
+    from solver.plot import format_frequency, side_by_side_map
+
+    panels, layers, freq = [], [], None
+    for case, mesh, system, result in solved:
+        k = list(result.ports).index(comparison.port)
+        _, fmap, _, _ = map_frequencies(mesh, case, result)
+        fi = fmap if fmap is not None else 0
+        maps = post.port_maps(mesh, system, result, freq_index=fi, port_index=k,
+                              layout=case.layout, lumped=case.lumped)
+        freq = result.frequencies[fi] if freq is None else freq
+        j = np.abs(maps.current_density)
+        magnitude = np.sqrt((j ** 2).sum(axis=1)) * 1e-3          # A/m -> A/mm
+        panels.append((f"{case.title}\n{format_frequency(result.frequencies[fi])}", mesh, case,
+                       magnitude, maps.current_density))
+        layers += [name for name in mesh.layer_names if name not in layers]
+    images = []
+    for layer in layers:
+        path = Path(out) / "maps" / f"compare_{safe_name(comparison.port)}_{safe_name(layer)}_J.png"
+        side_by_side_map(path, panels, layer=layer,
+                         title=f"Port {comparison.port}, layer {layer}: sheet current density |J| "
+                               f"(one colour scale for all variants)",
+                         label="|J| (A/mm per A of port current)")
+        images.append((path, f"Layer {layer}: |J| of port {comparison.port} in each variant, "
+                             f"one shared logarithmic colour scale."))
+    return images
+
+
+def compare_cases(case_paths, out, *, port=None, quiet=False):
+    """Solve each case into ``out/<case name>/`` and compare them; returns the comparison."""
+    from geometry.case import load_case
+    from solver.compare import compare, comparison_sections, format_comparison
+    from solver.report import write_comparison_report
+
+    cases = [load_case(p) for p in case_paths]
+    for case in cases:
+        for line in case.warnings:
+            print(f"warning: {Path(case.path).name}: {line}", file=sys.stderr)
+    stems = [Path(c.path).stem for c in cases]
+    if len(set(stems)) != len(stems):
+        raise InputError("compare: two cases share a file name; their outputs would overwrite "
+                         "each other (rename one)")
+    solved, triples = [], []
+    for case in cases:
+        if not quiet:
+            print(f"solving {Path(case.path).name} ...", flush=True)
+        result, mesh, system, summary = run_case(case, Path(out) / Path(case.path).stem, quiet=quiet)
+        solved.append((case, mesh, system, result))
+        triples.append((case, result, summary))
+    comparison = compare(triples, port=port)
+    text = format_comparison(comparison)
+    images = _side_by_side(out, solved, comparison)
+    write_comparison_report(out, f"Layout variants compared on port {comparison.port}",
+                            comparison_sections(comparison), images)
+    return comparison, text
+
+
+def _cmd_compare(args):
+    out = Path(args.out) if args.out else Path("out") / "compare"
+    _, text = compare_cases(args.cases, out, port=args.port)
+    print(text)
+    print(f"wrote {out}/report.html (each variant's own outputs in its folder)")
+    return 0
+
+
+DEMO_CASES = ("buck_baseline.toml", "buck_cap_near.toml", "buck_pour.toml")
+
+
+def _cmd_demo(args):
+    root = Path(__file__).resolve().parents[1] / "cases"
+    paths = [root / name for name in DEMO_CASES]
+    missing = [str(p) for p in paths if not p.is_file()]
+    if missing:
+        raise InputError(f"demo: bundled case not found: {missing[0]} (reinstall from a checkout "
+                         f"with `pip install -e .`)")
+    out = Path(args.out) if args.out else Path("out") / "demo"
+    print("copperpath demo: a 24 V to 5 V, 8 A synchronous buck stage on a four-layer board; "
+          "three variants of its hot loop.")
+    _, text = compare_cases(paths, out)
+    print(text)
+    print(f"wrote {out}/report.html (open it in a browser); each variant's maps and exports lie "
+          f"in its own folder there")
     return 0
 
 
@@ -118,6 +211,14 @@ def build_parser():
     p.add_argument("case", help="case file (TOML)")
     p.add_argument("--out", help="output folder (default: out/<case name>)")
     p.set_defaults(func=_cmd_inspect)
+    p = sub.add_parser("compare", help="solve layout variants and compare them side by side")
+    p.add_argument("cases", nargs="+", metavar="CASE", help="case files; the first is the reference")
+    p.add_argument("--port", help="port to compare (default: the first case's [circuit] port or first port)")
+    p.add_argument("--out", help="output folder (default: out/compare)")
+    p.set_defaults(func=_cmd_compare)
+    p = sub.add_parser("demo", help="the bundled buck-converter scenario: solve, compare, report")
+    p.add_argument("--out", help="output folder (default: out/demo)")
+    p.set_defaults(func=_cmd_demo)
     return parser
 
 

@@ -343,3 +343,67 @@ def impedance_plot(path, result, port_index, *, f_limit=None):
     with atomic_path(path) as tmp:
         fig.savefig(tmp, dpi=DPI, format="png")
     return path
+
+
+def side_by_side_map(path, panels, *, layer, title, label, cmap="magma", log=True):
+    """One per-triangle quantity of several cases on one layer, side by side, with one shared
+    colour scale (for comparing layout variants).
+
+    Parameters
+    ----------
+    path : str or os.PathLike
+        PNG file to write (atomically).
+    panels : sequence of tuple
+        ``(panel_title, mesh, case, values, vectors)`` per case; ``values`` (M,) in display
+        units, ``vectors`` (M, 2) complex or ``None``.
+    layer : str
+        Layer name drawn in every panel (a case without it shows an empty panel).
+    title, label : str
+        Figure title and colour-bar label.
+    cmap : str
+    log : bool
+        Logarithmic scale over :data:`LOG_DECADES` below the largest value of all panels.
+
+    Returns
+    -------
+    pathlib.Path
+    """
+    from matplotlib.colors import LogNorm, Normalize
+    from matplotlib.figure import Figure
+
+    views = []
+    for panel_title, mesh, case, values, vectors in panels:
+        if layer not in mesh.layer_names:
+            views.append(None)
+            continue
+        index = mesh.layer_names.index(layer)
+        tris, points, local = _layer_view(mesh, index)
+        show = mesh.tri_region[tris] < 0
+        views.append((panel_title, mesh, case, index, tris, points, local, show,
+                      np.asarray(values, float)[tris], vectors))
+    shown = [v[8][v[7]] for v in views if v is not None and v[7].any()]
+    top = max((float(np.nanmax(s)) for s in shown), default=1.0)
+    norm = (LogNorm(vmin=top * 10.0**-LOG_DECADES, vmax=top) if log and top > 0
+            else Normalize(vmin=0.0, vmax=top))
+    fig = Figure(figsize=(5.0 * len(panels) + 1.0, 5.2))
+    axes = fig.subplots(1, len(panels), squeeze=False)[0]
+    coll = None
+    for ax, view in zip(axes, views):
+        if view is None:
+            ax.set_axis_off()
+            continue
+        panel_title, mesh, case, index, tris, points, local, show, vals, vectors = view
+        scale = case.unit_scale
+        vals = np.clip(vals, norm.vmin, None) if log else vals
+        coll = ax.tripcolor(points[:, 0] / scale, points[:, 1] / scale, local[show],
+                            facecolors=vals[show], cmap=cmap, norm=norm, edgecolors="none", zorder=1)
+        if vectors is not None:
+            _arrows(ax, points, local, tris, np.asarray(vectors), mesh.tri_region < 0, scale)
+        _decorate(ax, mesh, case, index, tris, points, local, (), True)
+        ax.set_title(panel_title, fontsize=9)
+    if coll is not None:
+        fig.colorbar(coll, ax=list(axes), label=label, fraction=0.02, pad=0.02)
+    fig.suptitle(title, fontsize=11)
+    with atomic_path(path) as tmp:
+        fig.savefig(tmp, dpi=DPI, format="png", bbox_inches="tight", pad_inches=0.15)
+    return path

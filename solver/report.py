@@ -203,18 +203,58 @@ def write_report(out_dir, case, result, summary=None, images=(), *, bottlenecks=
 
     sub = (f"copperpath report of {Path(case.path).name}. Estimates from a field model, per ampere "
            "of port current; read the cautions at the end.")
-    body = [f"<h1>{_esc(case.title or Path(case.path).stem)}</h1>", f'<p class="sub">{_esc(sub)}</p>']
-    md = [f"# {case.title or Path(case.path).stem}", "", sub, ""]
-    for title, parts in sections:
-        body.append(f"<h2>{_esc(title)}</h2>")
-        md += [f"## {title}", ""]
+    return write_page(out_dir, case.title or Path(case.path).stem, sub, sections)
+
+
+def write_page(out_dir, title, sub, sections):
+    """Write ``report.html`` and ``report.md`` from ``(title, [(html, markdown), ...])`` sections.
+
+    Returns
+    -------
+    tuple of pathlib.Path
+        ``(report.html, report.md)``.
+    """
+    out_dir = Path(out_dir)
+    body = [f"<h1>{_esc(title)}</h1>", f'<p class="sub">{_esc(sub)}</p>']
+    md = [f"# {title}", "", sub, ""]
+    for head, parts in sections:
+        body.append(f"<h2>{_esc(head)}</h2>")
+        md += [f"## {head}", ""]
         for h, m in parts:
             body.append(h)
             md += [m, ""]
     page = ("<!DOCTYPE html>\n<html lang=\"en\"><head><meta charset=\"utf-8\">"
-            f"<title>{_esc(case.title)} - copperpath report</title><style>{_CSS}</style></head>"
+            f"<title>{_esc(title)} - copperpath report</title><style>{_CSS}</style></head>"
             "<body><main>\n" + "\n".join(body) + "\n</main></body></html>\n")
     html_path, md_path = out_dir / "report.html", out_dir / "report.md"
     write_text(html_path, page)
     write_text(md_path, "\n".join(md).rstrip() + "\n")
     return html_path, md_path
+
+
+def write_comparison_report(out_dir, title, sections, images=()):
+    """The report of a variant comparison: the comparison's own sections, then the
+    side-by-side pictures (paths relative to ``out_dir`` in the markdown), then the cautions.
+
+    Parameters
+    ----------
+    out_dir : str or os.PathLike
+    title : str
+    sections : sequence of (str, str, str)
+        ``(title, html, markdown)``.
+    images : sequence of (path, caption)
+
+    Returns
+    -------
+    tuple of pathlib.Path
+    """
+    out_dir = Path(out_dir)
+    out_dir.mkdir(parents=True, exist_ok=True)
+    parts = [(t, [(h, m)]) for t, h, m in sections]
+    if images:
+        parts.append(("Side by side", [(_figure_html(Path(p), c), _figure_md(Path(p), c, out_dir))
+                                       for p, c in images]))
+    parts.append(("Cautions", [(f'<div class="caution">{_esc(CAUTION)}</div>', f"> {CAUTION}")]))
+    sub = ("copperpath comparison of layout variants: each variant's own report lies in its "
+           "folder beside this file. Read the cautions at the end.")
+    return write_page(out_dir, title, sub, parts)
