@@ -19,8 +19,14 @@ Decisions not spelled out in the design:
   sorted and repeated values dropped. Without ``[sweep]`` the sweep is DC only.
 - ``[circuit]``: ``current`` + ``rise_time`` set ``di_dt = current / rise_time``; ``port``
   defaults to the only port.
-- Artwork, ``[[drill]]`` files and ``[fabrication]`` are checked to exist and stored; the
-  layout reads a layer's artwork only through the ``read_artwork`` callable.
+- Fabrication data (see :mod:`geometry.formats.board` for holes, slots and spans): a
+  layer's ``artwork`` Gerber file adds its copper to that layer; a ``[[drill]]`` file adds
+  a via for each plated hole (span: the table's ``layers``, else the file's X2 span, else
+  all layers); ``[fabrication] source`` gives copper layer ``n`` to the ``n``-th layer from
+  the top unless that layer names its own artwork, and vias for the plated holes of its
+  drill files (a drill file that a ``[[drill]]`` table names is read only once). What went
+  where is in ``Case.notes``; the readers' findings and skipped holes in ``Case.warnings``.
+  Errors in these files name the file and line.
 """
 from __future__ import annotations
 
@@ -34,6 +40,10 @@ import numpy as np
 from geometry import shapes
 from geometry.connectivity import bodies, floating_islands
 from geometry.errors import input_error
+from geometry.formats import board
+from geometry.formats import read_artwork as read_gerber
+from geometry.formats import read_drills
+from geometry.formats.fabrication import scan
 from geometry.layout import CopperShape, build_layout, via_array
 from geometry.model import (Case, CircuitOptions, Layer, Lumped, MeshOptions, Port,
                             SolverOptions, Terminal, Via)
@@ -409,7 +419,8 @@ def _vias(item, layers):
 
 def _drill(item, layers):
     f = _Fields(item, ("name", "file", "layers", "plating"))
-    return {"name": item.name, "file": f.path("file"), "span": _span(f, layers),
+    return {"name": item.name, "file": f.path("file"),
+            "span": _span(f, layers) if "layers" in f.data else None,
             "plating": f.length("plating", DEFAULT_PLATING, positive=True)}
 
 
@@ -537,6 +548,58 @@ def _fabrication(item):
     return _Fields(item, ("source",)).path("source")
 
 
+# ----------------------------------------------------------------------------- fabrication data
+def _layer_artwork(path, layer, read, window, scale, unit):
+    """The copper of a layer's artwork file, its note and warnings."""
+    art = read(layer.artwork) if read is not None else read_gerber(layer.artwork, clip=window)
+    geom = getattr(art, "geometry", art)              # an Artwork, or a bare geometry
+    warnings = list(getattr(art, "warnings", ()))
+    function = getattr(art, "file_function", None)
+    where = f"{path}: layer '{layer.name}': artwork {layer.artwork.name}"
+    if function and function[0] != "Copper":
+        warnings.append(f"{where} has X2 FileFunction {','.join(function)}, not Copper")
+    if geom.is_empty:
+        warnings.append(f"{where} holds no copper")
+    inside = " inside the window" if window is not None else ""
+    note = (f"layer '{layer.name}' <- {layer.artwork.name} (artwork, "
+            f"{geom.area / scale ** 2:g} {unit}^2 of copper{inside})")
+    return geom, note, warnings
+
+
+def _board_inputs(path, layers, drills, fabrication, read, window, scale, unit):
+    """Artwork copper per layer, vias of the drill files, notes and warnings."""
+    names = [la.name for la in layers]
+    artwork, vias, notes, warnings = {}, [], [], []
+    for la in layers:
+        if la.artwork is not None:
+            artwork[la.name], note, warns = _layer_artwork(path, la, read, window, scale, unit)
+            notes.append(note)
+            warnings += warns
+    for d in drills:
+        data = read_drills(d["file"])
+        label = f"[[drill]] '{d['name']}' {d['file'].name}"
+        span, note = (d["span"], None) if d["span"] else board.file_span(data.span, names, label)
+        if note:
+            notes.append(note)
+        if not span:
+            continue
+        made, note, warns = board.drill_vias(data, span, plating=d["plating"], annulus=DEFAULT_ANNULUS,
+                                             prefix=d["name"], label=label, scale=scale, unit=unit)
+        vias += made
+        notes.append(note)
+        warnings += [f"{path}: {w}" for w in warns]
+    if fabrication is not None:
+        fab = board.fabrication_inputs(scan(fabrication), names, own_artwork=set(artwork),
+                                       drill_files={d["file"].resolve() for d in drills},
+                                       plating=DEFAULT_PLATING, annulus=DEFAULT_ANNULUS,
+                                       clip=window, scale=scale, unit=unit)
+        artwork.update(fab.artwork)
+        vias += fab.vias
+        notes += fab.notes
+        warnings += [f"{path}: {w}" for w in fab.warnings]
+    return artwork, vias, notes, warnings
+
+
 # ----------------------------------------------------------------------------- checks
 def _check_ports(layout, ports, lumped, port_items):
     found = bodies(layout, lumped)
@@ -611,9 +674,9 @@ def load_case(path, *, read_artwork=None):
     path : str or os.PathLike
         The case file; relative paths inside it resolve against its folder.
     read_artwork : callable, optional
-        ``read_artwork(path) -> shapely geometry in metres``: the copper of a layer's
-        ``artwork`` file. Without it artwork is stored on the layers but not read, and
-        a warning says so.
+        ``read_artwork(path)`` returns the copper of a layer's ``artwork`` file: a
+        :class:`geometry.formats.gerber.Artwork` or a shapely geometry in metres. Default
+        :func:`geometry.formats.read_artwork` (Gerber RS-274X/X2).
 
     Returns
     -------
@@ -623,7 +686,8 @@ def load_case(path, *, read_artwork=None):
     Raises
     ------
     geometry.errors.InputError
-        For any problem in the file, with a one-line message.
+        For any problem in the file or in the artwork, drill and fabrication files it
+        names, with a one-line message.
     """
     path = Path(path)
     doc = _load_doc(path)
@@ -647,19 +711,17 @@ def load_case(path, *, read_artwork=None):
     solver = _solver(singles.get("solver"))
     circuit = _circuit(singles.get("circuit"), ports)
     fabrication = _fabrication(singles.get("fabrication"))
-    warnings = []
-    artwork = {}
-    for la in layers:
-        if la.artwork is not None and read_artwork is not None:
-            artwork[la.name] = read_artwork(la.artwork)
-        elif la.artwork is not None:
-            warnings.append(f"{path}: layer '{la.name}': artwork {la.artwork} is stored but not read "
-                            "(no artwork reader given)")
+    scale = unit_scale(doc["unit"])
+    artwork, more_vias, notes, warnings = _board_inputs(path, layers, drills, fabrication, read_artwork,
+                                                        window, scale, doc["unit"])
+    vias += more_vias
     labels = {("terminal", it.name): (it.source, it.label) for it in arrays["terminal"]}
     layout = build_layout(layers, copper, vias, terminals, window=window, artwork=artwork,
                           source=path, labels=labels)
+    if len(layout.vias) < len(vias):
+        notes.append(f"[window]: {len(vias) - len(layout.vias)} of {len(vias)} vias lie outside "
+                     "the window and are dropped")
     found = _check_ports(layout, ports, lumped, arrays["port"])
-    scale = unit_scale(doc["unit"])
     warnings += _island_warnings(path, found, ports, scale, doc["unit"])
     f_lim, d = quasi_static_limit(layout)
     if frequencies.max() > f_lim:
@@ -669,4 +731,4 @@ def load_case(path, *, read_artwork=None):
     return Case(path=path, title=doc["title"] or path.stem, unit=doc["unit"], unit_scale=scale,
                 layout=layout, ports=ports, lumped=lumped, frequencies=frequencies,
                 mesh=mesh, solver=solver, circuit=circuit, window=window,
-                warnings=tuple(warnings), drills=drills, fabrication=fabrication)
+                warnings=tuple(warnings), drills=drills, fabrication=fabrication, notes=tuple(notes))

@@ -3,16 +3,20 @@
 Order of operations on each layer (all boolean operations snap to ``grid_size``, 1 nm by
 default, which keeps the result clean and reproducible):
 
-1. start from the layer's artwork copper (if any);
+1. start from the layer's artwork copper (if any), cropped to the window first (so that only
+   the window's part of a large board is processed); it is snapped to the grid by the
+   first boolean operation that follows (or on its own when none does);
 2. apply the ``[[copper]]`` shapes **in file order**: a shape adds copper, a ``clear``
    shape cuts it out; a later added shape puts copper back where an earlier one cleared it
    (runs of consecutive additions or clears are united first, which gives the same result);
 3. crop to the window (vias whose centre lies outside the window are dropped);
 4. vias: on each layer of a via's span whose copper overlaps the pad disk (a shared area,
    not just a touching point), the whole pad disk (diameter ``pad``) is added and the layer
-   is recorded in ``Via.connects`` (top down); then the drill hole (diameter ``drill``) of
-   every via is cut from every layer of its span, connected or not; the result is cropped
-   to the window again;
+   is recorded in ``Via.connects`` (top down); a pad that the copper already covers to
+   within the polygon tolerance of the shapes (:data:`geometry.shapes.CHORD_TOL`: the pad
+   flashed in artwork, drawn with other chords) is not added again; then the drill hole
+   (diameter ``drill``) of every via is cut from every layer of its span, connected or
+   not, all holes of a layer at once; the result is cropped to the window again;
 5. terminals: each terminal's shape is intersected with the final copper of its layer.
 """
 from __future__ import annotations
@@ -20,12 +24,13 @@ from __future__ import annotations
 import itertools
 from dataclasses import dataclass, replace
 
+import numpy as np
 import shapely
 from shapely.geometry import GeometryCollection, MultiPolygon, Polygon
 
 from geometry.errors import input_error
 from geometry.model import Layout, Terminal
-from geometry.shapes import circle
+from geometry.shapes import CHORD_TOL, circle
 
 #: Precision grid of the copper in metres (1 nm).
 GRID = 1e-9
@@ -89,10 +94,13 @@ def shares_area(a, b):
     --------
     >>> shares_area(shapely.box(0, 0, 1, 1), shapely.box(1, 0, 2, 1))
     False
+
+    ``b`` may also be an array of geometries (the answer is then a bool array). Two areas
+    share an area exactly when their interiors meet: they intersect and do not merely
+    touch (DE-9IM; predicates only, fast on a prepared ``a``).
     """
-    if not a.intersects(b):
-        return False
-    return bool(shapely.contains_properly(a, b)) or shapely.intersection(a, b).area > 0
+    share = shapely.intersects(a, b) & ~shapely.touches(a, b)
+    return share if isinstance(share, np.ndarray) else bool(share)
 
 
 def via_array(via, pitch, count):
@@ -142,25 +150,49 @@ def _apply_shapes(base, shapes, grid_size):
 
 def _add_vias(copper, layers, vias, grid_size):
     """Add the pads of connected vias and cut every drill hole; fill ``Via.connects``."""
-    pads = [circle((v.x, v.y), 0.5 * v.pad) for v in vias]
-    holes = [circle((v.x, v.y), 0.5 * v.drill) for v in vias]
+    pads = np.array([circle((v.x, v.y), 0.5 * v.pad) for v in vias], dtype=object)
+    cores = np.array([circle((v.x, v.y), max(0.5 * v.pad - CHORD_TOL, 0.5 * v.drill)) for v in vias],
+                     dtype=object)
+    holes = np.array([circle((v.x, v.y), 0.5 * v.drill) for v in vias], dtype=object)
     connects = [[] for _ in vias]
     out = {}
     for layer in layers:
         cu = copper[layer.name]
         shapely.prepare(cu)
-        on = [k for k, v in enumerate(vias) if layer.name in v.span]
-        touching = [k for k in on if shares_area(cu, pads[k])]
+        on = np.array([k for k, v in enumerate(vias) if layer.name in v.span], dtype=int)
+        touching = on[shares_area(cu, pads[on])] if len(on) else on
         for k in touching:
             connects[k].append(layer.name)
-        outside = [pads[k] for k in touching if not shapely.contains_properly(cu, pads[k])]
-        if outside:
-            cu = shapely.union_all([cu, shapely.union_all(outside)], grid_size=grid_size)
-        if on:
-            cut = shapely.union_all([holes[k] for k in on])        # snapped when applied
+        outside = touching[~shapely.contains_properly(cu, cores[touching])] if len(touching) else touching
+        if len(outside):
+            cu = shapely.union(cu, shapely.union_all(pads[outside]), grid_size=grid_size)
+        if len(on):
+            cut = shapely.union_all(holes[on])                      # snapped when applied
             cu = shapely.difference(cu, cut, grid_size=grid_size)
         out[layer.name] = cu
     return out, tuple(replace(v, connects=tuple(c)) for v, c in zip(vias, connects))
+
+
+def _crop(geom, box, grid_size):
+    """``geom`` cropped to the window ``box`` (None: no window); skipped when it lies inside."""
+    if box is None or geom.is_empty:
+        return geom
+    x0, y0, x1, y1 = geom.bounds
+    b0, c0, b1, c1 = box.bounds
+    if b0 <= x0 and c0 <= y0 and x1 <= b1 and y1 <= c1:
+        return geom
+    return shapely.intersection(geom, box, grid_size=grid_size)
+
+
+def _artwork_base(geom, box, grid_size):
+    """Artwork copper cropped to the window; united on the grid only if it is not valid."""
+    if geom is None:
+        return Polygon()
+    if box is not None:
+        geom = shapely.clip_by_rect(geom, *box.bounds)
+    if shapely.is_valid(geom):
+        return geom                         # a large layer: snapped by the next operation
+    return shapely.union_all([geom], grid_size=grid_size)
 
 
 def _terminal(term, copper, source, labels):
@@ -247,18 +279,17 @@ def build_layout(layers, shapes=(), vias=(), terminals=(), *, window=None, artwo
     box = shapely.box(*window) if window is not None else None
     copper = {}
     for layer in layers:
-        base = shapely.union_all([artwork.get(layer.name, Polygon())], grid_size=grid_size)
+        base = _artwork_base(artwork.get(layer.name), box, grid_size)
         cu = _apply_shapes(base, [s for s in shapes if s.layer == layer.name], grid_size)
-        if box is not None:
-            cu = shapely.intersection(cu, box, grid_size=grid_size)
-        copper[layer.name] = cu
+        copper[layer.name] = _crop(cu, box, grid_size)
     if box is not None:
         vias = [v for v in vias if box.contains(shapely.Point(v.x, v.y))]
     copper, vias = _add_vias(copper, layers, tuple(vias), grid_size)
+    untouched = set(artwork) - {s.layer for s in shapes} - {name for v in vias for name in v.span}
     for name, cu in copper.items():
-        if box is not None:
-            cu = shapely.intersection(cu, box, grid_size=grid_size)
-        copper[name] = shapely.normalize(as_multipolygon(cu))
+        if name in untouched:
+            cu = shapely.set_precision(cu, grid_size)
+        copper[name] = shapely.normalize(as_multipolygon(_crop(cu, box, grid_size)))
     terms = tuple(_terminal(t, copper, source, labels) for t in terminals)
     _check_disjoint(terms, source, labels)
     return Layout(layers=layers, copper=copper, vias=vias, terminals=terms)

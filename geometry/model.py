@@ -211,10 +211,14 @@ class Case:
     warnings : tuple of str
         Non-fatal findings, one line each.
     drills : tuple of dict
-        ``[[drill]]`` entries: ``{"name": str, "file": Path, "span": tuple of str,
-        "plating": float (m)}``; the holes are read from the Excellon files.
+        ``[[drill]]`` entries: ``{"name": str, "file": Path, "span": tuple of str or None
+        (None: the file's X2 span, else all layers), "plating": float (m)}``; their plated
+        holes are among the layout's vias.
     fabrication : pathlib.Path or None
         ``[fabrication] source``: a folder or zip of Gerber X2 and Excellon files.
+    notes : tuple of str
+        What the artwork, drill and fabrication files gave (which file went to which layer,
+        how many vias, what was skipped), one line each; informative, unlike ``warnings``.
     """
 
     path: Path
@@ -232,3 +236,4 @@ class Case:
     warnings: tuple[str, ...] = ()
     drills: tuple[dict, ...] = ()
     fabrication: Path | None = None
+    notes: tuple[str, ...] = ()

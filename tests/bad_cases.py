@@ -46,6 +46,12 @@ thickness = 0.035
 """
 
 
+#: GOOD with artwork ``top.gbr`` on L1.
+_ARTWORK = GOOD.replace("thickness = 0.035", 'thickness = 0.035\nartwork = "top.gbr"', 1)
+#: An empty Gerber X2 copper file for layer 1.
+_COPPER_L1 = "%TF.FileFunction,Copper,L1,Top*%\n%FSLAX46Y46*%\n%MOMM*%\nM02*\n"
+
+
 def write_case(folder, text, extra=None):
     """Write ``text`` to ``folder/case.toml`` and ``extra`` files beside it; return the path."""
     folder = Path(folder)
@@ -174,5 +180,13 @@ BAD_CASES = [
     ("circuit_both_didt_forms", GOOD + "\n[circuit]\ndi_dt = 1e9\ncurrent = 10\nrise_time = 1e-8\n",
      ["[circuit]", "not both"], {}),
     ("units_in_message_mil", 'units = "mil"\n' + GOOD + L2 + "\n[[via]]\nat = [5, 0.5]\ndrill = -12\n",
-     ["'drill' must be a positive length, got -12"], {}),
+     ["'drill' must be a positive length, got -12"], {}),    # malformed fabrication files: the readers' one-line errors name the file and the line
+    ("artwork_flash_without_aperture", _ARTWORK, ["top.gbr:3:", "flash (D03) before any aperture was selected"],
+     {"top.gbr": "%FSLAX26Y26*%\n%MOMM*%\nX0Y0D03*\nM02*\n"}),
+    ("artwork_is_a_drill_file", _ARTWORK, ["top.gbr", "this is an Excellon drill file; expected Gerber artwork"],
+     {"top.gbr": "M48\nMETRIC\nT1C0.3\n%\nT1\nX1.0Y1.0\nM30\n"}),
+    ("drill_tool_undefined", GOOD + L2 + '\n[[drill]]\nfile = "vias.drl"\n',
+     ["vias.drl:4:", "tool T3 used before definition"], {"vias.drl": "M48\nMETRIC\n%\nT3\nX1.0Y0.5\nM30\n"}),
+    ("fabrication_two_files_claim_L1", GOOD + '\n[fabrication]\nsource = "./"\n',
+     ["two files claim copper layer L1", "a.gbr", "b.gbr"], {"a.gbr": _COPPER_L1, "b.gbr": _COPPER_L1}),
 ]

@@ -101,7 +101,8 @@ def test_paths_resolve_against_case_folder(tmp_path):
     assert drill["file"] == tmp_path / "fab/board-PTH.drl" and drill["span"] == ("L1", "L2")
     assert drill["name"] == "drill1" and drill["plating"] == DEFAULT_PLATING
     assert case.fabrication == tmp_path / "fab"
-    assert any("artwork" in w and "not read" in w for w in case.warnings)
+    # the artwork is read by default now: the empty file gives no copper, and says so
+    assert any("artwork art.gbr holds no copper" in w for w in case.warnings)
 
 
 def test_artwork_reader_adds_copper(tmp_path):

@@ -59,7 +59,8 @@ def detect(text: str, name: str = "") -> str | None:
     return None
 
 
-def read_artwork(path_or_buffer, *, chord: float = DEFAULT_CHORD, name: str | None = None) -> Artwork:
+def read_artwork(path_or_buffer, *, chord: float = DEFAULT_CHORD, name: str | None = None,
+                 clip: tuple[float, float, float, float] | None = None) -> Artwork:
     """Read a copper artwork file, checking first that it is Gerber.
 
     Parameters
@@ -69,6 +70,9 @@ def read_artwork(path_or_buffer, *, chord: float = DEFAULT_CHORD, name: str | No
         Chord tolerance in metres (see :mod:`geometry.formats.gerber`).
     name : str, optional
         Name used in messages.
+    clip : tuple of float, optional
+        ``(x0, y0, x1, y1)`` in metres: only the image inside this rectangle (see
+        :func:`geometry.formats.gerber.read`).
 
     Returns
     -------
@@ -86,7 +90,7 @@ def read_artwork(path_or_buffer, *, chord: float = DEFAULT_CHORD, name: str | No
         raise input_error(label, None, "this is an Excellon drill file; expected Gerber artwork")
     if kind is None and not label.lower().endswith(SUFFIXES["gerber"]):
         raise input_error(label, None, "not a Gerber file (no %FS, %MO, %TF or %AD command found)")
-    return gerber.read_text(text, name=label, chord=chord)
+    return gerber.read_text(text, name=label, chord=chord, clip=clip)
 
 
 def read_drills(path_or_buffer, *, name: str | None = None) -> Drills:

@@ -104,10 +104,10 @@ class Fabrication:
         """Return the bytes of an assigned file as a binary buffer."""
         return io.BytesIO(self.contents[label])
 
-    def read_copper(self, layer: int, *, chord: float = DEFAULT_CHORD) -> gerber.Artwork:
+    def read_copper(self, layer: int, *, chord: float = DEFAULT_CHORD, clip=None) -> gerber.Artwork:
         """Read the artwork of copper layer ``layer`` (see :func:`geometry.formats.gerber.read`)."""
         label = self.copper[layer]
-        return gerber.read(self.open(label), chord=chord, name=label)
+        return gerber.read(self.open(label), chord=chord, name=label, clip=clip)
 
     def read_drills(self, drill: DrillFile) -> excellon.Drills:
         """Read one drill file of the set (see :func:`geometry.formats.excellon.read`)."""

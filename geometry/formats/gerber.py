@@ -103,7 +103,8 @@ class Artwork:
         return self.file_attributes.get("FileFunction")
 
 
-def read(path_or_buffer, *, chord: float = DEFAULT_CHORD, name: str | None = None) -> Artwork:
+def read(path_or_buffer, *, chord: float = DEFAULT_CHORD, name: str | None = None,
+         clip: tuple[float, float, float, float] | None = None) -> Artwork:
     """Read a Gerber file.
 
     Parameters
@@ -115,6 +116,10 @@ def read(path_or_buffer, *, chord: float = DEFAULT_CHORD, name: str | None = Non
         straight pieces that replace it. Default 1e-6.
     name : str, optional
         Name used in messages; default the path or the buffer's ``name``.
+    clip : tuple of float, optional
+        ``(x0, y0, x1, y1)`` in metres: return only the image inside this rectangle. Objects
+        whose bounding box misses it are dropped before the image is united, which makes a
+        window of a large board fast. Default: the whole image.
 
     Returns
     -------
@@ -132,14 +137,15 @@ def read(path_or_buffer, *, chord: float = DEFAULT_CHORD, name: str | None = Non
     0.783
     """
     text, label = load_text(path_or_buffer, name)
-    return read_text(text, name=label, chord=chord)
+    return read_text(text, name=label, chord=chord, clip=clip)
 
 
-def read_text(text: str, *, name: str = "<string>", chord: float = DEFAULT_CHORD) -> Artwork:
+def read_text(text: str, *, name: str = "<string>", chord: float = DEFAULT_CHORD,
+              clip: tuple[float, float, float, float] | None = None) -> Artwork:
     """Read Gerber data given as a string; see :func:`read`."""
     if not (chord > 0 and math.isfinite(chord)):
         raise ValueError(f"chord must be a positive length in metres, got {chord!r}")
-    return _Reader(name, chord).run(text)
+    return _Reader(name, chord, clip).run(text)
 
 
 def load_text(path_or_buffer, name=None):
@@ -553,13 +559,17 @@ def _append(stream, dark, geoms):
         stream.append((dark, geoms))
 
 
-def _resolve(stream):
+def _resolve(stream, clip=None):
     """Apply the objects in order (dark adds, clear erases) and return a MultiPolygon.
 
     A clear run is united once and cut only from the earlier dark objects whose bounding
-    boxes meet it; the dark objects are united at the end.
+    boxes meet it; the dark objects are united at the end. With ``clip`` (x0, y0, x1, y1)
+    objects whose bounding box misses that rectangle are dropped first and the result is
+    cropped to it.
     """
     dark_geoms, boxes, pending = np.empty(0, dtype=object), np.empty((0, 4)), []
+    if clip is not None:
+        stream = [(dark, geoms[_meets(shapely.bounds(geoms), clip)]) for dark, geoms in stream]
     for dark, geoms in stream:
         if dark:
             pending.append(geoms)
@@ -582,7 +592,17 @@ def _resolve(stream):
     if len(dark_geoms) == 0:
         return MultiPolygon()
     union = shapely.union_all(dark_geoms)
+    if clip is not None:
+        union = shapely.intersection(union, shapely.box(*clip))
     return MultiPolygon(list(_polygonal(np.array([union], dtype=object))))
+
+
+def _meets(boxes, clip):
+    """Which rows ``(x0, y0, x1, y1)`` of ``boxes`` meet the rectangle ``clip``."""
+    x0, y0, x1, y1 = clip
+    if len(boxes) == 0:
+        return np.zeros(0, dtype=bool)
+    return (boxes[:, 0] <= x1) & (boxes[:, 2] >= x0) & (boxes[:, 1] <= y1) & (boxes[:, 3] >= y0)
 
 
 @dataclass
@@ -608,8 +628,8 @@ class _Context:
 class _Reader:
     """Interpreter state of one file; :meth:`run` returns the Artwork."""
 
-    def __init__(self, name, chord):
-        self.name, self.tol = name, chord
+    def __init__(self, name, chord, clip=None):
+        self.name, self.tol, self.clip = name, chord, clip
         self.unit = None                # metres per file unit
         self.unit_name = None
         self.fs = None                  # (trailing, xint, xdec, yint, ydec)
@@ -660,7 +680,7 @@ class _Reader:
             self.warn(self.line, "file does not end with M02")
         top = self.stack[0]
         self.flush(top)
-        return Artwork(_resolve(top.stream), dict(self.attrs), self.unit_name, self.name, tuple(self.warnings))
+        return Artwork(_resolve(top.stream, self.clip), dict(self.attrs), self.unit_name, self.name, tuple(self.warnings))
 
     # ----------------------------------------------------------- normal words
 

@@ -24,7 +24,7 @@ def test_inductance_matrix_is_symmetric_positive_definite(strip_over_plane):
     # Partial inductance is a Gram matrix of the currents' magnetic energy (Ruehli 1972).
     _, _, system = strip_over_plane
     assert np.allclose(system.L, system.L.T, rtol=0, atol=1e-12 * np.abs(system.L).max())
-    assert eigen_min(system.L) > 0
+    np.linalg.cholesky(system.L)          # raises unless positive definite
 
 
 def test_r_rises_and_l_falls_with_frequency(strip_over_plane):
@@ -79,6 +79,7 @@ def test_floating_pour_lowers_high_frequency_loop_inductance():
     r_bare, _, _ = solve_layout(bare, [Port("p", "P", "N")], freqs, mesh=COARSE)
     r_pour, _, _ = solve_layout(pour, [Port("p", "P", "N")], freqs, mesh=COARSE)
     # Eddy currents in floating copper oppose the loop's flux (Lenz): L falls at high frequency;
-    # at DC no current flows in the floating pour and L is unchanged.
-    assert r_pour.inductance[0, 0, 0] == pytest.approx(r_bare.inductance[0, 0, 0], rel=1e-6)
+    # at DC no current flows in the floating pour and L is unchanged (up to the loop's mesh,
+    # which is refined where it lies over the pour).
+    assert r_pour.inductance[0, 0, 0] == pytest.approx(r_bare.inductance[0, 0, 0], rel=2e-3)
     assert r_pour.inductance[1, 0, 0] < 0.9 * r_bare.inductance[1, 0, 0]
