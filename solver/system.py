@@ -163,8 +163,11 @@ def assemble(mesh, layout, ports, lumped=(), *, n_freqs=1, f_max=0.0, memory_lim
     n_edges = int((network.branch_kind == EDGE).sum())
     sheets = mesh.triangles[network.sheet_tri]
     args = (network.half_branch, network.half_tri, network.half_vertex, network.half_sign, n_edges)
-    L_edges = partial.inductance_matrix(mesh.points, sheets, network.sheet_z, *args)
-    R_edges = partial.resistance_matrix(mesh.points, sheets, network.sheet_resistance, *args)
+    if n_edges:
+        L_edges = partial.inductance_matrix(mesh.points, sheets, network.sheet_z, *args)
+        R_edges = partial.resistance_matrix(mesh.points, sheets, network.sheet_resistance, *args)
+    else:                                   # only vias and lumped branches carry current
+        L_edges, R_edges = np.zeros((0, 0)), sp.csr_matrix((0, 0))
     r_bar, l_bar = _barrel_matrices(network, layout)
 
     nb = network.n_branches

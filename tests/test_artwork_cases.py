@@ -90,8 +90,8 @@ def test_layers_match_the_drawn_case(fab_case, drawn_case):
 
 def test_bottom_layer_area_from_the_board_dimensions(fab_case):
     # window 19 mm x 15 mm of solid pour, less the 1.5 mm x 8.5 mm slot, less 12 drill holes
-    # (0.3 mm, each a 20-gon inscribed in its circle: geometry.shapes.n_segments(0.15 mm))
-    expected = (19.0 * 15.0 - 1.5 * 8.5) * MM ** 2 - 12 * _polygon_disk_area(0.15 * MM, 20)
+    # (0.3 mm, each a regular octagon inscribed in its circle: geometry.layout.drill_hole)
+    expected = (19.0 * 15.0 - 1.5 * 8.5) * MM ** 2 - 12 * _polygon_disk_area(0.15 * MM, 8)
     assert fab_case.layout.copper["L2"].area == pytest.approx(expected, rel=1e-6)
     x0, y0, x1, y1 = fab_case.layout.copper["L2"].bounds
     assert (x0, y0, x1, y1) == pytest.approx((0.5 * MM, 0.5 * MM, 19.5 * MM, 15.5 * MM), abs=1e-9)
@@ -128,13 +128,13 @@ def test_without_window_the_whole_board_is_read(tmp_path):
     assert len(case.layout.vias) == 13 and not any("[window]" in n for n in case.notes)
     cu = case.layout.copper["L2"]
     assert cu.bounds == pytest.approx((0, 0, 24 * MM, 16 * MM), abs=1e-9)
-    # the whole pour less the slot, 13 drill holes (20-gons) and the two 4.4 mm mounting
+    # the whole pour less the slot, 13 drill holes (octagons) and the two 4.4 mm mounting
     # clearances, which the board edge cuts; those are measured with shapely on fine disks
     # (the Gerber's chords of 1 um cost at most perimeter x 1 um = 0.014 mm^2 each)
     board = shapely.box(0, 0, 24 * MM, 16 * MM)
     clear = sum(shapely.Point(22 * MM, y * MM).buffer(2.2 * MM, quad_segs=1024).intersection(board).area
                 for y in (2, 14))
-    expected = (24 * 16 - 1.5 * 8.5) * MM ** 2 - clear - 13 * _polygon_disk_area(0.15 * MM, 20)
+    expected = (24 * 16 - 1.5 * 8.5) * MM ** 2 - clear - 13 * _polygon_disk_area(0.15 * MM, 8)
     assert cu.area == pytest.approx(expected, abs=0.03 * MM ** 2)
 
 

@@ -89,8 +89,9 @@ def test_drill_holes_cut_and_pads_added():
     r_pad, r_hole = 0.4 * MM, 0.15 * MM
     (v,) = lay.vias
     assert v.connects == ("L1", "L2")
-    assert lay.copper["L1"].area == pytest.approx(10 * MM ** 2 + ngon_area(r_pad) / 2 - ngon_area(r_hole), rel=1e-9)
-    assert lay.copper["L2"].area == pytest.approx(200 * MM ** 2 - ngon_area(r_hole), rel=1e-12)
+    octagon = 2 * math.sqrt(2) * r_hole ** 2                # the drill hole is a regular octagon
+    assert lay.copper["L1"].area == pytest.approx(10 * MM ** 2 + ngon_area(r_pad) / 2 - octagon, rel=1e-9)
+    assert lay.copper["L2"].area == pytest.approx(200 * MM ** 2 - octagon, rel=1e-12)
     assert lay.copper["L3"].area == pytest.approx(200 * MM ** 2, rel=1e-12)
     for name in ("L1", "L2"):
         assert not lay.copper[name].contains(shapely.Point(10 * MM, 0.5 * MM))
