@@ -124,7 +124,8 @@ def _side_by_side(out, solved, comparison):
         magnitude = np.sqrt((j ** 2).sum(axis=1)) * 1e-3          # A/m -> A/mm
         panels.append((f"{case.title}\n{format_frequency(result.frequencies[fi])}", mesh, case,
                        magnitude, maps.current_density))
-        layers += [name for name in mesh.layer_names if name not in layers]
+        layers += [name for k, name in enumerate(mesh.layer_names)
+                   if name not in layers and (mesh.tri_layer == k).any()]
     images = []
     for layer in layers:
         path = Path(out) / "maps" / f"compare_{safe_name(comparison.port)}_{safe_name(layer)}_J.png"

@@ -373,10 +373,10 @@ def side_by_side_map(path, panels, *, layer, title, label, cmap="magma", log=Tru
 
     views = []
     for panel_title, mesh, case, values, vectors in panels:
-        if layer not in mesh.layer_names:
-            views.append(None)
+        index = mesh.layer_names.index(layer) if layer in mesh.layer_names else -1
+        if not (mesh.tri_layer == index).any():
+            views.append(None)                 # this case has no copper on the layer
             continue
-        index = mesh.layer_names.index(layer)
         tris, points, local = _layer_view(mesh, index)
         show = mesh.tri_region[tris] < 0
         views.append((panel_title, mesh, case, index, tris, points, local, show,
@@ -385,12 +385,22 @@ def side_by_side_map(path, panels, *, layer, title, label, cmap="magma", log=Tru
     top = max((float(np.nanmax(s)) for s in shown), default=1.0)
     norm = (LogNorm(vmin=top * 10.0**-LOG_DECADES, vmax=top) if log and top > 0
             else Normalize(vmin=0.0, vmax=top))
+    boxes = [np.concatenate([v[5].min(axis=0), v[5].max(axis=0)]) / v[2].unit_scale
+             for v in views if v is not None]
+    lo = np.min([b[:2] for b in boxes], axis=0)
+    hi = np.max([b[2:] for b in boxes], axis=0)
+    pad = 0.04 * (hi - lo).max()
     fig = Figure(figsize=(5.0 * len(panels) + 1.0, 5.2))
-    axes = fig.subplots(1, len(panels), squeeze=False)[0]
+    axes = fig.subplots(1, len(panels), squeeze=False, sharex=True, sharey=True)[0]
     coll = None
-    for ax, view in zip(axes, views):
+    for ax, view, panel in zip(axes, views, panels):
+        ax.set_xlim(lo[0] - pad, hi[0] + pad)
+        ax.set_ylim(lo[1] - pad, hi[1] + pad)
+        ax.set_aspect("equal")
         if view is None:
-            ax.set_axis_off()
+            ax.set_title(panel[0], fontsize=9)
+            ax.text(0.5, 0.5, f"no copper on {layer}", transform=ax.transAxes, ha="center",
+                    va="center", color="#666666")
             continue
         panel_title, mesh, case, index, tris, points, local, show, vals, vectors = view
         scale = case.unit_scale
@@ -400,6 +410,8 @@ def side_by_side_map(path, panels, *, layer, title, label, cmap="magma", log=Tru
         if vectors is not None:
             _arrows(ax, points, local, tris, np.asarray(vectors), mesh.tri_region < 0, scale)
         _decorate(ax, mesh, case, index, tris, points, local, (), True)
+        ax.set_xlim(lo[0] - pad, hi[0] + pad)          # one extent for every panel
+        ax.set_ylim(lo[1] - pad, hi[1] + pad)
         ax.set_title(panel_title, fontsize=9)
     if coll is not None:
         fig.colorbar(coll, ax=list(axes), label=label, fraction=0.02, pad=0.02)
