@@ -31,7 +31,7 @@ with ``S = sqrt(R^2 + u^2)``, the antiderivatives of ``rho G2`` and ``rho^2 G2``
     A2 = (R^3/3) u asinh(u/R) + (7/24) u^2 R S - R S^3/4 - (u^4/24) asinh(R/|u|),   A2(u, 0) = 0.
 
 The parts ``-R^3/3`` and ``-R^4/4`` that do not depend on ``u`` drop out of the corner sum; they
-are subtracted analytically (:func:`_b1`, :func:`_b2`) so that the sum does not cancel.
+are subtracted analytically (:func:`radial_p12`) so that the sum does not cancel.
 
 The per-layer-pair constants live in a small float64 array (:func:`pair_params`) so that the
 numba loops of :mod:`solver.quadrature` can call :func:`kernel_value`, :func:`radial_p1` and
@@ -44,12 +44,17 @@ import math
 import numpy as np
 from numba import njit
 
+#: LLVM fast-math flags for the numba loops: reassociation and contraction, but infinities and
+#: NaNs keep their meaning (the closed form is ``inf`` at zero distance in one layer).
+FASTMATH = {"nsz", "arcp", "contract", "afn", "reassoc"}
+
 #: Far-series switch: R beyond this many times the larger thickness.
 SWITCH_THICKNESSES = 20.0
 
-# Layout of the pair-parameter vector.
-_U0, _U1, _U2, _U3, _INV_TT, _D, _M2, _M4, _M6, _RSW2, _OVERLAP = range(11)
-N_PAIR_PARAMS = 11
+# Layout of the pair-parameter vector: the four corners, constants, then the merged corners.
+_U0, _U1, _U2, _U3, _INV_TT, _D, _M2, _M4, _M6, _RSW2, _OVERLAP, _NC = range(12)
+_CU, _CC = 12, 16
+N_PAIR_PARAMS = 20
 _SIGNS = (1.0, -1.0, -1.0, 1.0)
 
 
@@ -65,7 +70,9 @@ def pair_params(a0, a1, b0, b1):
     -------
     ndarray, shape (N_PAIR_PARAMS,)
         Corner offsets ``u_i`` (m), ``1/(ta tb)`` (m^-2), centre offset ``d`` (m), the
-        moments ``<s^2>, <s^4>, <s^6>``, the squared switch radius (m^2) and an overlap flag.
+        moments ``<s^2>, <s^4>, <s^6>``, the squared switch radius (m^2), an overlap flag,
+        and the corners merged by ``|u_i|`` (the corner terms are even in ``u``): their
+        number, up to four ``|u|`` (m) and up to four summed signs.
     """
     ta, tb = a1 - a0, b1 - b0
     if not (ta > 0 and tb > 0):
@@ -79,10 +86,23 @@ def pair_params(a0, a1, b0, b1):
     p[_M6] = (ta**6 + tb**6) / 448.0 + (ta**4 * tb**2 + ta**2 * tb**4) / 64.0
     p[_RSW2] = (SWITCH_THICKNESSES * max(ta, tb)) ** 2
     p[_OVERLAP] = 1.0 if (a0 < b1 and b0 < a1) else 0.0
+    # every corner term is even in u: merge equal |u| (the same layer has two, +-t and 0)
+    merged = {}
+    for u, c in zip(p[_U0:_U3 + 1], _SIGNS):
+        key = min(merged, key=lambda k: abs(k - abs(u)), default=None)
+        if key is not None and abs(key - abs(u)) <= 1e-12 * max(ta, tb):
+            merged[key] += c
+        else:
+            merged[abs(u)] = c
+    corners = [(u, c) for u, c in merged.items() if c != 0.0]
+    p[_NC] = len(corners)
+    p[_CU:_CC + 4] = 0.0
+    for i, (u, c) in enumerate(corners):
+        p[_CU + i], p[_CC + i] = u, c
     return p
 
 
-@njit(cache=True)
+@njit(cache=True, fastmath=FASTMATH)
 def kernel_series(rho2, par):
     """Far series of the averaged kernel (1/m) at squared in-plane distance ``rho2`` (m^2)."""
     d = par[_D]
@@ -95,26 +115,27 @@ def kernel_series(rho2, par):
     return (1.0 + inv * (p2 * par[_M2] + inv * (p4 * par[_M4] + inv * p6 * par[_M6]))) / math.sqrt(r2)
 
 
-@njit(cache=True)
+@njit(cache=True, fastmath=FASTMATH)
 def kernel_closed(rho2, par):
     """Closed-form averaged kernel (1/m); ``inf`` at ``rho2 = 0`` for overlapping z-ranges."""
     rho = math.sqrt(rho2)
     acc = 0.0
+    nc = int(par[_NC])
     if rho > 0.0:
-        for i in range(4):
-            u = par[i]
-            acc += _SIGNS[i] * (u * math.asinh(u / rho) - math.sqrt(rho2 + u * u))
+        for i in range(nc):
+            u = par[_CU + i]
+            acc += par[_CC + i] * (u * math.asinh(u / rho) - math.sqrt(rho2 + u * u))
     else:
         if par[_OVERLAP] != 0.0:
             return math.inf
-        for i in range(4):
-            au = abs(par[i])
-            if au > 0.0:
-                acc += _SIGNS[i] * (au * math.log(2.0 * au) - au)
+        for i in range(nc):
+            u = par[_CU + i]
+            if u > 0.0:
+                acc += par[_CC + i] * (u * math.log(2.0 * u) - u)
     return acc * par[_INV_TT]
 
 
-@njit(cache=True)
+@njit(cache=True, fastmath=FASTMATH)
 def kernel_value(rho2, par):
     """Averaged kernel (1/m): far series beyond the switch radius, closed form inside."""
     if rho2 + par[_D] * par[_D] > par[_RSW2]:
@@ -122,48 +143,44 @@ def kernel_value(rho2, par):
     return kernel_closed(rho2, par)
 
 
-@njit(cache=True)
-def _b1(u, r):
-    """Corner term of P1: A1(u, r) + r^3/3 - A1(u, 0), written without cancellation."""
-    au = abs(u)
-    if au == 0.0:
-        return 0.0
-    s = math.sqrt(r * r + u * u)
-    return r * r * (0.5 * u * math.asinh(u / r) - u * u / (3.0 * (s + r)) + u * u / (6.0 * (s + au)))
+@njit(cache=True, fastmath=FASTMATH)
+def radial_p12(r, par):
+    """``(P1(R), P2(R))`` in metres and square metres, sharing the work of each corner.
 
-
-@njit(cache=True)
-def _b2(u, r):
-    """Corner term of P2: A2(u, r) + r^4/4 - A2(u, 0), written without cancellation."""
-    au = abs(u)
-    if au == 0.0:
-        return 0.0
-    s = math.sqrt(r * r + u * u)
-    return (r**3 / 3.0 * u * math.asinh(u / r) + 7.0 / 24.0 * u * u * r * s
-            - r * u * u * (s * s + s * r + r * r) / (4.0 * (s + r))
-            - u**4 / 24.0 * math.asinh(r / au))
+    Per merged corner ``|u|`` the terms ``A1(u, R) + R^3/3 - A1(u, 0)`` and
+    ``A2(u, R) + R^4/4 - A2(u, 0)``, written without cancellation.
+    """
+    if r <= 0.0:
+        return 0.0, 0.0
+    acc1 = 0.0
+    acc2 = 0.0
+    r2 = r * r
+    for i in range(int(par[_NC])):
+        au = par[_CU + i]
+        if au == 0.0:
+            continue
+        c = par[_CC + i]
+        u2 = au * au
+        s = math.sqrt(r2 + u2)
+        ua = au * math.asinh(au / r)
+        sr = s + r
+        acc1 += c * r2 * (0.5 * ua - u2 / (3.0 * sr) + u2 / (6.0 * (s + au)))
+        acc2 += c * (r2 * r / 3.0 * ua + 7.0 / 24.0 * u2 * r * s
+                     - r * u2 * (s * s + s * r + r2) / (4.0 * sr)
+                     - u2 * u2 / 24.0 * math.asinh(r / au))
+    return acc1 * par[_INV_TT], acc2 * par[_INV_TT]
 
 
 @njit(cache=True)
 def radial_p1(r, par):
     """P1(R) = int_0^R rho K(rho) drho in metres (0 at R = 0)."""
-    if r <= 0.0:
-        return 0.0
-    acc = 0.0
-    for i in range(4):
-        acc += _SIGNS[i] * _b1(par[i], r)
-    return acc * par[_INV_TT]
+    return radial_p12(r, par)[0]
 
 
 @njit(cache=True)
 def radial_p2(r, par):
     """P2(R) = int_0^R rho^2 K(rho) drho in square metres (0 at R = 0)."""
-    if r <= 0.0:
-        return 0.0
-    acc = 0.0
-    for i in range(4):
-        acc += _SIGNS[i] * _b2(par[i], r)
-    return acc * par[_INV_TT]
+    return radial_p12(r, par)[1]
 
 
 @njit(cache=True)

@@ -30,7 +30,7 @@ import math
 import numpy as np
 from numba import njit, prange
 
-from solver.kernels import kernel_value, radial_p1, radial_p2
+from solver.kernels import FASTMATH, kernel_value, radial_p12
 
 # Symmetric rules on the triangle (Dunavant 1985, "High degree efficient symmetrical Gaussian
 # quadrature rules for the triangle", IJNME 21): orbits (a, b, weight) in barycentric
@@ -145,14 +145,14 @@ def subdivided_rule(degree, levels):
     return pts, np.tile(w, len(tris)) / len(tris)
 
 
-@njit(cache=True)
+@njit(cache=True, fastmath=FASTMATH)
 def half_pair(mom, ptx, pty, qtx, qty):
     """``int int (r - p).(r' - q) K`` (m^5) from the pair moments and centroid-relative vertices."""
     return (mom[5] - (qtx * mom[1] + qty * mom[2]) - (ptx * mom[3] + pty * mom[4])
             + (ptx * qtx + pty * qty) * mom[0])
 
 
-@njit(cache=True)
+@njit(cache=True, fastmath=FASTMATH)
 def far_moments(dcx, dcy, xa, wa, xb, wb, par, out):
     """Product-Gauss pair moments (see module docstring) into ``out`` (6,).
 
@@ -181,7 +181,7 @@ def far_moments(dcx, dcy, xa, wa, xb, wb, par, out):
         out[5] += w1 * (ax * s1x + ay * s1y)
 
 
-@njit(cache=True)
+@njit(cache=True, fastmath=FASTMATH)
 def inner_polar(px, py, tb, cbx, cby, par, glx, glw, panel):
     """``int_Tb K dS'`` (m) and ``int_Tb (r' - cb) K dS'`` (m^2) about the point ``(px, py)``.
 
@@ -233,21 +233,20 @@ def inner_polar(px, py, tb, cbx, cby, par, glx, glw, panel):
         for k in range(npan):
             w0 = wa + k * dw
             for g in range(glx.size):
-                w = w0 + 0.5 * dw * (glx[g] + 1.0)
-                ch = math.cosh(w)
+                ew = math.exp(w0 + 0.5 * dw * (glx[g] + 1.0))
+                ch = 0.5 * (ew + 1.0 / ew)
+                th = (ew - 1.0 / ew) / (ew + 1.0 / ew)
                 wt = sgn * 0.5 * dw * glw[g] / ch
-                rr = h * ch
-                p1 = radial_p1(rr, par)
-                p2 = radial_p2(rr, par)
-                ux = nx / ch + ex * math.tanh(w)
-                uy = ny / ch + ey * math.tanh(w)
+                p1, p2 = radial_p12(h * ch, par)
+                ux = nx / ch + ex * th
+                uy = ny / ch + ey * th
                 i0 += wt * p1
                 ix += wt * (rcx * p1 + ux * p2)
                 iy += wt * (rcy * p1 + uy * p2)
     return i0, ix, iy
 
 
-@njit(cache=True)
+@njit(cache=True, fastmath=FASTMATH)
 def near_moments(ta, cax, cay, area_a, tb, cbx, cby, par, obary, ow, glx, glw, panel, out):
     """Accurate pair moments (self, adjacent or near pairs, any layers) into ``out`` (6,).
 

@@ -99,6 +99,80 @@ def test_irregular_mesh_symmetric_positive_definite():
     assert np.allclose(R, R.T, rtol=1e-12, atol=0) and np.linalg.eigvalsh(R).min() > 0
 
 
+def _irregular(max_area):
+    import triangle as tr
+
+    poly = dict(vertices=np.array([[0, 0], [4e-3, 0], [4e-3, 1e-3], [2e-3, 3e-3], [0, 2e-3]]),
+                segments=np.array([[0, 1], [1, 2], [2, 3], [3, 4], [4, 0]]))
+    mesh = tr.triangulate(poly, f"q30a{max_area:.12f}")
+    return mesh["vertices"], mesh["triangles"].astype(np.int64)
+
+
+@pytest.mark.parametrize("max_area,parity", [(2.5e-7, 1), (2e-7, 0)])
+@pytest.mark.parametrize("near", ["all", "self only"])
+def test_pair_once_assembly_matches_half_by_half_sum(monkeypatch, max_area, parity, near):
+    # every unordered triangle pair is visited exactly once (odd and even triangle counts, the
+    # near table and the far loop): the matrix equals the plain sum over all half pairs of
+    # pair moments computed here one by one with the same rules
+    from solver import partial
+    from solver.kernels import pair_params
+    from solver.quadrature import far_moments, near_moments, triangle_rule
+
+    monkeypatch.setattr(partial, "NEAR_FACTOR", 100.0 if near == "all" else 0.0)
+    monkeypatch.setattr(partial, "FAR_LEVELS", ((np.inf, 6),))
+    pts, tris = _irregular(max_area)
+    assert len(tris) % 2 == parity
+    halves, cur = _branches(pts, tris, np.zeros(2))  # interior edges only
+    z = (0.0, 35e-6)
+    L = inductance_matrix(pts, tris, np.tile(z, (len(tris), 1)), *halves, len(cur))
+    hb, ht, hv, hs = halves
+    n, verts = len(tris), pts[tris]
+    cent = verts.mean(1)
+    d1, d2 = verts[:, 1] - verts[:, 0], verts[:, 2] - verts[:, 0]
+    area = 0.5 * (d1[:, 0] * d2[:, 1] - d1[:, 1] * d2[:, 0])
+    obary, ow, nrule = partial._outer_rules()
+    glx, glw = np.polynomial.legendre.leggauss(partial.N_W)
+    par = pair_params(*z, *z)
+    bary6, w6 = triangle_rule(6)
+    ref = np.zeros_like(L)
+    for i in range(n):
+        for j in range(i, n):
+            step = (j - i) % n
+            # the pair's owner goes first (its outer rule)
+            a, b = (j, i) if 2 * step > n or (2 * step == n and i > j) else (i, j)
+            mom = np.empty(6)
+            if a == b or near == "all":
+                c = min(2, len(set(tris[a]) & set(tris[b])))
+                near_moments(verts[a], *cent[a], area[a], verts[b], *cent[b], par,
+                             obary[c, :nrule[c]], ow[c, :nrule[c]], glx, glw, partial.W_PANEL, mom)
+            else:
+                far_moments(*(cent[a] - cent[b]), bary6 @ verts[a] - cent[a], w6 * area[a],
+                            bary6 @ verts[b] - cent[b], w6 * area[b], par, mom)
+            for h in np.flatnonzero(ht == a):
+                for k in np.flatnonzero(ht == b):
+                    pt, qt = hv[h] - cent[a], hv[k] - cent[b]
+                    val = (mom[5] - qt @ mom[1:3] - pt @ mom[3:5] + (pt @ qt) * mom[0])
+                    val *= hs[h] * hs[k] / (4 * area[a] * area[b]) * (0.5 if a == b else 1.0)
+                    ref[hb[h], hb[k]] += val
+                    ref[hb[k], hb[h]] += val
+    np.testing.assert_allclose(L, 1e-7 * ref, rtol=1e-10, atol=1e-12 * np.abs(L).max())
+
+
+def test_colouring_separates_triangles_of_a_branch():
+    from solver.partial import _colour
+
+    pts, tris = _irregular(2e-7)
+    (hb, ht, _, _), _ = _branches(pts, tris, np.zeros(2))
+    ptr, order = _colour(len(tris), ht, hb)
+    colour = np.empty(len(tris), np.int64)
+    for c in range(len(ptr) - 1):
+        colour[order[ptr[c]:ptr[c + 1]]] = c
+    assert sorted(order) == list(range(len(tris))) and len(ptr) - 1 <= 4
+    for b in np.unique(hb):
+        t = ht[hb == b]
+        assert len(set(colour[t])) == len(t)
+
+
 def test_bad_shapes_raise():
     pts, tris = _strip(2e-3, 1e-3)
     with pytest.raises(ValueError, match="half_vertex"):

@@ -61,19 +61,20 @@ def test_other_layer_near_pair_matches_brute_force():
 
 @pytest.mark.parametrize("tb", [TA, TB], ids=["self", "adjacent"])
 def test_singular_pairs_converge(tb):
-    # production rule for touching pairs (edge-graded 6 x 6) against a heavily refined outer rule
-    # and finer w panels; the independent check of these pairs is the strip against the exact bar
-    # formula (tests/test_partial.py, Hoer & Love 1965)
+    # production rules for touching pairs (edge-graded 6 x 6, solver.partial's w panels) against a
+    # heavily refined outer rule and finer w panels; the independent check of these pairs is the
+    # strip against the exact bar formula (tests/test_partial.py, Hoer & Love 1965)
+    from solver.partial import N_W, W_PANEL
     z = (0.0, T)
     ref = pair_moments(TA, tb, z, z, degree=6, levels=4, n_w=12, panel=0.7)
     from solver.quadrature import near_moments, _area  # noqa: F401  (production path below)
     from solver.kernels import pair_params
     bary, w = edge_graded_rule(6, 6)
     out = np.empty(6)
-    glx, glw = np.polynomial.legendre.leggauss(8)
+    glx, glw = np.polynomial.legendre.leggauss(N_W)
     ca, cb = TA.mean(0), tb.mean(0)
     near_moments(TA, ca[0], ca[1], _area(TA), np.ascontiguousarray(tb, dtype=float), cb[0], cb[1],
-                 pair_params(0, T, 0, T), bary, w, glx, glw, 1.0, out)
+                 pair_params(0, T, 0, T), bary, w, glx, glw, W_PANEL, out)
     assert out[0] == pytest.approx(ref[0], rel=1e-5)
     p, q = TA[2], tb[0]
     assert _half(out, TA, tb, p, q) == pytest.approx(_half(ref, TA, tb, p, q), rel=1e-5)
