@@ -60,7 +60,7 @@ def main(argv=None):
     p.add_argument("case", nargs="?", default=str(ROOT / "cases" / "two_layer_pour.toml"))
     p.add_argument("--scales", type=float, nargs="+", default=[2.0, 1.4, 1.0, 0.75])
     p.add_argument("--freqs", type=int, default=10, help="frequencies: DC plus log-spaced 1 kHz..100 MHz")
-    p.add_argument("--method", default="auto", choices=["auto", "direct", "iterative"])
+    p.add_argument("--method", default="auto", choices=["auto", "dense", "fast"])
     p.add_argument("--one", type=float, help=argparse.SUPPRESS)
     args = p.parse_args(argv)
     if args.one is not None:

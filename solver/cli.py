@@ -61,7 +61,8 @@ def run_case(case, out, *, freqs=None, quiet=False, write=True):
     timing["assemble"] = time.perf_counter() - t
     t = time.perf_counter()
     result = solve(system, frequencies, title=case.title,
-                   progress=None if quiet else _progress(Path(case.path).stem))
+                   progress=None if quiet else _progress(Path(case.path).stem),
+                   method=case.solver.method, rtol=case.solver.tolerance)
     timing["solve"] = time.perf_counter() - t
     summary = write_outputs(case, mesh, system, result, out, timing=timing) if write else None
     return result, mesh, system, summary
@@ -71,13 +72,15 @@ def _cmd_solve(args):
     from geometry.case import load_case
     from solver.outputs import format_table
 
+    if args.freq and not all(np.isfinite(f) and f >= 0 for f in args.freq):
+        raise InputError(f"--freq: frequencies must be finite and >= 0 Hz, got {args.freq}")
     case = load_case(args.case)
     for line in case.notes:
         print(f"note: {line}")
     for line in case.warnings:
         print(f"warning: {line}", file=sys.stderr)
     out = _out_dir(args, args.case)
-    result, mesh, system, summary = run_case(case, out, freqs=args.freq)
+    result, mesh, system, summary = run_case(case, out, freqs=sorted(set(args.freq or [])))
     print(format_table(case, result, summary))
     print(f"wrote {out}/")
     return 0

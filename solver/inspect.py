@@ -14,6 +14,8 @@ import numpy as np
 import shapely
 
 from geometry.meshing import layer_copper
+from solver.network import build_network
+from solver.system import estimate_memory
 
 SMALL_ANGLE_DEG = 25.0
 """Triangles with a smaller angle are counted (they come from sharp angles of the artwork)."""
@@ -57,11 +59,12 @@ def write_inspect(layout, mesh, out_dir, *, unit_scale=1e-3, unit="mm", title=""
 def inspect_summary(layout, mesh, *, ports=(), title=""):
     """The content of ``inspect.json`` (SI units).
 
-    ``mesh.unknowns`` counts the current unknowns of the solve: interior edges that do not
-    lie inside one region (an equipotential), plus one per via-barrel segment between
-    consecutive connected layers. ``mesh.nodes`` counts the potential unknowns: bulk
-    triangles plus regions. ``dense_memory_bytes`` is ``16 (unknowns + nodes)^2``, the
-    complex matrix of a dense current-and-potential solve.
+    ``mesh.unknowns`` counts the current unknowns of the solve (edge currents of every
+    sublayer, via-barrel segments), ``mesh.nodes`` the potentials (bulk triangles and
+    equipotential regions), ``mesh.loops`` the loop currents of the dense solve, and
+    ``dense_memory_bytes`` the peak memory of the dense path
+    (:func:`solver.system.estimate_memory`, one frequency). Lumped branches (a handful) are
+    not counted.
     """
     layers = {}
     for index, layer in enumerate(layout.layers):
@@ -71,11 +74,9 @@ def inspect_summary(layout, mesh, *, ports=(), title=""):
             "islands": int(sum(1 for g in shapely.get_parts(copper) if g.area > 0.0)),
             "triangles": int(np.count_nonzero(mesh.tri_layer == index)),
         }
-    region = mesh.tri_region[mesh.edge_tris]
-    inside = (region[:, 0] >= 0) & (region[:, 0] == region[:, 1])
-    barrels = sum(max(len(via.connects) - 1, 0) for via in layout.vias)
-    unknowns = int(np.count_nonzero(~inside)) + barrels
-    nodes = int(np.count_nonzero(mesh.tri_region < 0)) + len(mesh.region_names)
+    network = build_network(mesh, layout)
+    unknowns, nodes = network.n_branches, network.n_nodes
+    loops = unknowns - nodes + len(np.unique(network.bodies))
     angles = mesh.angles_deg.min(axis=1) if mesh.n_triangles else np.array([180.0])
     return {
         "title": title,
@@ -89,11 +90,12 @@ def inspect_summary(layout, mesh, *, ports=(), title=""):
             "edges": int(len(mesh.edges)),
             "unknowns": unknowns,
             "nodes": nodes,
+            "loops": int(loops),
             "regions": len(mesh.region_names),
             "min_angle_deg": float(angles.min()),
             "small_angle_triangles": int(np.count_nonzero(angles < SMALL_ANGLE_DEG)),
         },
-        "dense_memory_bytes": 16 * (unknowns + nodes) ** 2,
+        "dense_memory_bytes": estimate_memory(unknowns, loops, max(len(ports), 1)),
     }
 
 

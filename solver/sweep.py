@@ -71,16 +71,16 @@ def near_preconditioner_pattern(Lc, keep=0.02):
 
 
 class _LoopSolver:
-    """Solves ``(Rc + jw Lc) x = b`` directly (LU) or by GMRES with a sparse near-field
-    preconditioner; the direct path is the reference."""
+    """Solves ``(Rc + jw Lc) x = b`` by dense LU (``"dense"``, the reference) or by GMRES with a
+    sparse near-field preconditioner (``"fast"``)."""
 
     def __init__(self, Rc, Lc, method, rtol):
         self.Rc, self.Lc, self.method, self.rtol = Rc, Lc, method, rtol
-        self.Ln = near_preconditioner_pattern(Lc) if method == "iterative" else None
+        self.Ln = near_preconditioner_pattern(Lc) if method == "fast" else None
         self.iterations = []
 
     def __call__(self, w, b):
-        if self.method == "direct":
+        if self.method == "dense":
             Zc = self.Rc.toarray() + 1j * w * self.Lc
             return la.solve(Zc, b, assume_a="gen", overwrite_a=True, check_finite=False)
         n = self.Lc.shape[0]
@@ -119,10 +119,10 @@ def solve(system, frequencies, *, title="", keep_currents=True, progress=None,
         Store branch currents and node potentials for maps (memory ``16 F P (B + nodes)``).
     progress : callable, optional
         Called as ``progress(k, n, f)`` after each frequency.
-    method : {"auto", "direct", "iterative"}
-        ``"direct"``: dense LU of the loop system per frequency (the reference);
-        ``"iterative"``: GMRES on the stored loop matrices with a sparse near-field
-        preconditioner, to relative residual ``rtol``; ``"auto"``: direct up to 2,500 loops.
+    method : {"auto", "dense", "fast"}
+        ``"dense"``: dense LU of the loop system per frequency (the reference);
+        ``"fast"``: GMRES on the stored loop matrices with a sparse near-field
+        preconditioner, to relative residual ``rtol``; ``"auto"``: dense up to 2,500 loops.
     rtol : float
         Relative residual of the iterative path.
 
@@ -130,8 +130,8 @@ def solve(system, frequencies, *, title="", keep_currents=True, progress=None,
     -------
     solver.result.Result
     """
-    if method not in ("auto", "direct", "iterative"):
-        raise ValueError(f"Invalid method {method!r}, should be one of 'auto', 'direct', 'iterative'")
+    if method not in ("auto", "dense", "fast"):
+        raise ValueError(f"Invalid method {method!r}, should be one of 'auto', 'dense', 'fast'")
     f = np.asarray(frequencies, float)
     C = system.basis.loops
     P = system.port_paths
@@ -149,7 +149,7 @@ def solve(system, frequencies, *, title="", keep_currents=True, progress=None,
     pLp = np.asarray(P.T @ LP)
     pRp = np.asarray((P.T @ R @ P).todense())
     if method == "auto":
-        method = "direct" if Lc.shape[0] <= 2500 else "iterative"
+        method = "dense" if Lc.shape[0] <= 2500 else "fast"
     loop_solver = _LoopSolver(Rc, Lc, method, rtol)
     reduce_s = time.perf_counter() - t
 

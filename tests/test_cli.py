@@ -2,7 +2,7 @@
 import pytest
 
 from solver.cli import main
-from tests.bad_cases import BAD_CASES, write_case
+from tests.bad_cases import BAD_CASES, GOOD, write_case
 
 
 @pytest.mark.parametrize("case_id, text, words, extra", BAD_CASES, ids=[c[0] for c in BAD_CASES])
@@ -28,3 +28,24 @@ def test_missing_case_file(tmp_path, capsys):
 def test_usage_error_is_status_2(capsys):
     assert main(["solve"]) == 2
     assert main(["frobnicate"]) == 2
+
+
+def test_negative_frequency_on_the_command_line(tmp_path, capsys):
+    path = write_case(tmp_path, GOOD)
+    assert main(["solve", str(path), "--freq", "-5", "--out", str(tmp_path / "o")]) == 2
+    assert "--freq" in capsys.readouterr().err
+
+
+def test_memory_estimate_refuses_a_mesh_that_does_not_fit():
+    import pytest as _pytest
+
+    from geometry import gallery
+    from geometry.errors import InputError
+    from geometry.meshing import triangulate
+    from geometry.model import MeshOptions, Port
+    from solver.system import assemble
+
+    lay = gallery.strip(10e-3, 1e-3)
+    mesh = triangulate(lay, MeshOptions(0.5e-3, 0.1e-3))
+    with _pytest.raises(InputError, match="max_edge"):
+        assemble(mesh, lay, [Port("p", "A", "B")], memory_limit=1000)
