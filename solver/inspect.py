@@ -7,13 +7,13 @@ temporary name in the output folder and renamed into place.
 from __future__ import annotations
 
 import json
-import os
 from pathlib import Path
 
 import numpy as np
 import shapely
 
 from geometry.meshing import layer_copper
+from solver.files import atomic_path
 from solver.network import build_network
 from solver.system import estimate_memory
 
@@ -106,14 +106,8 @@ def _file_stem(name):
 
 def _write_atomic(path, write):
     """Call ``write(tmp)`` on a temporary name beside ``path``, then rename it into place."""
-    tmp = path.with_name(f".{path.name}.{os.getpid()}.tmp")
-    try:
+    with atomic_path(path) as tmp:
         write(tmp)
-        os.replace(tmp, path)
-    finally:
-        if tmp.exists():
-            tmp.unlink()
-
 
 def _write_vtu(layout, mesh, path):
     """``mesh.vtu``: triangles in 3-D at each layer's mid-plane (metres), cell data ``layer``
