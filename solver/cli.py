@@ -33,6 +33,19 @@ def _progress(label):
     return show
 
 
+def _stage(label):
+    """A callback that shows the current stage on one terminal line (quiet when piped);
+    ``say(None)`` clears the line."""
+    if label is None or not sys.stderr.isatty():
+        return lambda text: None
+
+    def say(text):
+        sys.stderr.write("\r\033[K" + (f"{label}: {text} ..." if text else ""))
+        sys.stderr.flush()
+
+    return say
+
+
 def _out_dir(args, case_path):
     return Path(args.out) if args.out else Path("out") / Path(case_path).stem
 
@@ -51,10 +64,13 @@ def run_case(case, out, *, freqs=None, quiet=False, write=True):
     from solver.system import assemble
 
     frequencies = np.asarray(freqs if freqs else case.frequencies, float)
+    say = _stage(None if quiet else Path(case.path).stem)
     timing = {}
     t = time.perf_counter()
+    say("meshing")
     mesh = triangulate(case.layout, case.mesh)
     timing["mesh"] = time.perf_counter() - t
+    say(f"assembling ({mesh.n_triangles} triangles)")
     t = time.perf_counter()
     system = assemble(mesh, case.layout, case.ports, case.lumped, n_freqs=len(frequencies),
                       f_max=float(frequencies.max(initial=0.0)))
@@ -64,7 +80,9 @@ def run_case(case, out, *, freqs=None, quiet=False, write=True):
                    progress=None if quiet else _progress(Path(case.path).stem),
                    method=case.solver.method, rtol=case.solver.tolerance)
     timing["solve"] = time.perf_counter() - t
+    say("writing maps, exports and report")
     summary = write_outputs(case, mesh, system, result, out, timing=timing) if write else None
+    say(None)
     return result, mesh, system, summary
 
 
