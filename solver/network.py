@@ -165,14 +165,16 @@ def auto_sublayers(layer, f_max, n_max=8):
 
     One sublayer while the copper is thinner than the skin depth
     ``delta = 1 / sqrt(pi f mu0 sigma)``; otherwise enough that the outer sublayers are no
-    thicker than ``delta / 2`` (``n >= pi sqrt(t / (2 delta))``), at most ``n_max``.
+    thicker than ``delta / 2`` (``n >= pi sqrt(t / (2 delta))``), at least 3 (two equal halves
+    of a lone symmetric conductor carry equal currents and show no skin effect) and at most
+    ``n_max``.
     """
     if f_max <= 0:
         return 1
     delta = 1.0 / np.sqrt(np.pi * f_max * 4e-7 * np.pi * layer.conductivity)
     if layer.thickness <= delta:
         return 1
-    return int(min(n_max, max(2, np.ceil(np.pi * np.sqrt(layer.thickness / (2 * delta))))))
+    return int(min(n_max, max(3, np.ceil(np.pi * np.sqrt(layer.thickness / (2 * delta))))))
 
 
 def build_network(mesh, layout, lumped=(), *, f_max=0.0):
