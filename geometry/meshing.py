@@ -51,6 +51,9 @@ MIN_ANGLE_DEG = 30.0
 """Minimum angle asked of Triangle (its guarantee holds up to about 33 degrees)."""
 GRADING = 0.4
 """Growth of the target edge length per unit distance from a feature."""
+FACING_FRACTION = 0.5
+"""Edge length on copper edges that face a neighbouring layer's copper, as a fraction of
+``min_edge``: at high frequency the current density is singular there."""
 REENTRANT_TURN_DEG = 30.0
 """A copper corner that turns away from the copper by more than this is refined."""
 WIDTH_FACTOR = 1.0
@@ -229,6 +232,9 @@ class SizeField:
         (``None`` where the erosion is empty).
     regions : shapely geometry or None
         Union of the layer's regions (prepared).
+    facing : scipy.spatial.cKDTree or None
+        Points on copper edges that face a neighbouring layer's copper, where the edge is
+        ``FACING_FRACTION * min_edge``.
     """
 
     min_edge: float
@@ -237,6 +243,7 @@ class SizeField:
     boundary: object
     levels: tuple
     regions: object
+    facing: object = None
 
     def __call__(self, xy: np.ndarray) -> np.ndarray:
         """Target edge length in metres at the points ``xy`` (K, 2) in metres, in copper."""
@@ -245,6 +252,11 @@ class SizeField:
         if self.features is not None:
             d, _ = self.features.query(xy, distance_upper_bound=self._reach(self.min_edge))
             h = np.minimum(h, self.min_edge + GRADING * d)
+        floor = self.min_edge
+        if self.facing is not None:
+            floor = FACING_FRACTION * self.min_edge
+            d, _ = self.facing.query(xy, distance_upper_bound=self._reach(floor))
+            h = np.minimum(h, floor + GRADING * d)
         if self.levels and self.boundary is not None:
             to_edge, _ = self.boundary.query(xy, distance_upper_bound=self.levels[-1][0])
             for r, eroded in self.levels:
@@ -257,7 +269,7 @@ class SizeField:
                 if len(narrow) and len(lower):
                     d, _ = cKDTree(xy[narrow]).query(xy[lower], distance_upper_bound=self._reach(h0))
                     h[lower] = np.minimum(h[lower], h0 + GRADING * d)
-        h = np.clip(h, self.min_edge, self.max_edge)
+        h = np.clip(h, floor, self.max_edge)
         if self.regions is not None:
             h[shapely.contains_xy(self.regions, xy[:, 0], xy[:, 1])] = self.max_edge
         return h
@@ -280,7 +292,7 @@ def size_field(copper, regions, options: MeshOptions, facing=None) -> SizeField:
     facing : shapely geometry, optional
         Copper of the neighbouring layers. Edges of this layer's copper that lie over it face
         another conductor: at high frequency the current crowds there, so they get
-        ``min_edge`` (straight edges facing nothing are not refined).
+        ``FACING_FRACTION * min_edge`` (straight edges facing nothing are not refined).
 
     Returns
     -------
@@ -296,10 +308,12 @@ def size_field(copper, regions, options: MeshOptions, facing=None) -> SizeField:
         xy = shapely.get_coordinates(shapely.segmentize(shapely.boundary(union), 0.5 * lo))
         inner = shapely.buffer(copper, -0.05 * lo, quad_segs=2)
         pts.append(xy[shapely.contains_xy(inner, xy[:, 0], xy[:, 1])])
+    facing_tree = None
     if facing is not None and not facing.is_empty and not copper.is_empty:
-        xy = shapely.get_coordinates(shapely.segmentize(copper.boundary, 0.5 * lo))
+        xy = shapely.get_coordinates(shapely.segmentize(copper.boundary, 0.25 * lo))
         shapely.prepare(facing)
-        pts.append(xy[shapely.contains_xy(facing, xy[:, 0], xy[:, 1])])
+        xy = xy[shapely.contains_xy(facing, xy[:, 0], xy[:, 1])]
+        facing_tree = cKDTree(xy) if len(xy) else None
     pts = np.concatenate(pts)
     levels = []
     r = lo / WIDTH_FACTOR
@@ -308,7 +322,8 @@ def size_field(copper, regions, options: MeshOptions, facing=None) -> SizeField:
         levels.append((r, None if eroded.is_empty else tree(eroded.boundary, 0.25 * r)))
         r *= math.sqrt(2.0)
     boundary = None if copper.is_empty else tree(copper.boundary, 0.25 * lo)
-    return SizeField(lo, hi, cKDTree(pts) if len(pts) else None, boundary, tuple(levels), union)
+    return SizeField(lo, hi, cKDTree(pts) if len(pts) else None, boundary, tuple(levels), union,
+                     facing_tree)
 
 
 def _reentrant_corners(copper) -> np.ndarray:
