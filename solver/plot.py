@@ -14,9 +14,11 @@ area in mohm/mm^2 (mW/mm^2 at 1 A), potential in mV.
 from __future__ import annotations
 
 import math
+import textwrap
 
 import numpy as np
 
+from solver import post
 from solver.files import atomic_path
 
 CMAPS = {"current": "magma", "inductance": "cividis", "loss": "inferno", "potential": "viridis"}
@@ -213,6 +215,7 @@ def layer_map(path, mesh, case, values, *, layer_index, title, label, cmap, log=
     _decorate(ax, mesh, case, layer_index, tris, points, local, markers, mask_regions)
     ax.set_title(title, fontsize=10)
     if note:
+        note = "\n".join(textwrap.wrap(note, 115))
         ax.annotate(note, xy=(0.0, 0.0), xycoords=("axes fraction", ax.xaxis.label), xytext=(0.0, -4.0),
                     textcoords="offset points", ha="left", va="top", fontsize=7.5,
                     color="#444444", annotation_clip=False)
@@ -251,12 +254,18 @@ def _negative_note(share, total_unit, unit_name):
 def inductance_share_map(path, mesh, case, maps, *, layer_index, markers=()):
     """Inductance share per area (nH/mm^2 per A^2 of port current); see :func:`layer_map`."""
     layer = mesh.layer_names[layer_index]
-    density = maps.inductance_share / mesh.areas * 1e3          # H/m^2 -> nH/mm^2
     on_layer = maps.inductance_share[mesh.tri_layer == layer_index].sum()
     note = (_negative_note(maps.inductance_share[mesh.tri_layer == layer_index], 1e9, "nH")
             + f"This layer holds {on_layer * 1e9:.4g} nH of the port's {maps.inductance * 1e9:.4g} nH."
-            " Numbers: bottlenecks.")
-    return layer_map(path, mesh, case, np.clip(density, 0.0, None), layer_index=layer_index,
+            " Shown smoothed over neighbouring triangles. Numbers: bottlenecks.")
+    # Per-edge energy shares scatter from triangle to triangle; show them smoothed as the
+    # bottleneck finder ranks them (post.smoothed_density), with the colour scale's top at the
+    # 99.5th percentile so that one hot triangle does not darken the rest.
+    bulk = mesh.tri_region < 0
+    shown = post.smoothed_density(mesh, np.clip(maps.inductance_share, 0.0, None), mask=bulk) * 1e3
+    on = shown[(mesh.tri_layer == layer_index) & bulk]
+    top = float(np.percentile(on, 99.5)) if on.size else None
+    return layer_map(path, mesh, case, np.clip(shown, 0.0, top), layer_index=layer_index,
                      title=f"{_head(maps, layer)}: inductance share in nH/mm$^2$ (where the loop L lives)",
                      label="inductance share (nH/mm$^2$)", cmap=CMAPS["inductance"],
                      markers=markers, note=note)
