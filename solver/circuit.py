@@ -42,7 +42,7 @@ FORMULAS = {
     "peak_switch_node_v": "V_peak = V_in + V_os",
     "ringing_hz": "f_ring = 1 / (2 pi sqrt(L * C_oss))",
     "characteristic_impedance_ohm": "Z_0 = sqrt(L / C_oss)",
-    "damping_ratio": "zeta = (R / 2) * sqrt(C_oss / L)  (series R-L-C, copper resistance only)",
+    "damping_ratio": "zeta = (R / 2) * sqrt(C_oss / L)  (series R-L-C, R of the extracted loop only)",
     "snubber_r_ohm": "R_s = Z_0 = sqrt(L / C_oss)  (common practice)",
     "snubber_c_f": "C_s = 4 * C_oss  (common practice: 3 to 4 times C_oss)",
 }
@@ -203,8 +203,8 @@ def _ringing(ell, res, c_oss):
 
 
 def _ringing_notes(f_ring, f_used, zeta):
-    notes = ["the damping ratio counts the copper's resistance only; switch on-resistance, "
-             "capacitor ESR and core losses add damping"]
+    notes = ["the damping ratio counts only the resistance of the extracted loop (copper and the "
+             "case's lumped branches); capacitor ESR not modelled, switching and core losses add damping"]
     if f_ring > f_used > 0:
         notes.append(f"the ringing frequency {f_ring:.4g} Hz lies above the highest swept "
                      f"frequency {f_used:.4g} Hz: L and R were taken at {f_used:.4g} Hz")
