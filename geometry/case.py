@@ -249,7 +249,7 @@ def _load_doc(path, chain=()):
         doc = _load_doc(base, (*chain, path))
     if "units" in data:
         if data["units"] not in UNITS:
-            raise input_error(path, None, f"'units' must be one of "
+            raise input_error(path, None, "'units' must be one of "
                               + ", ".join(f"'{u}'" for u in UNITS) + f", got {_show(data['units'])}")
         doc["unit"] = data["units"]
     doc["title"] = data.get("title", doc["title"])
@@ -466,7 +466,7 @@ def _sweep(item):
     f = _Fields(item, ("frequencies", "start", "stop", "points"))
     ranged = [k for k in ("start", "stop", "points") if k in f.data]
     if "frequencies" in f.data and ranged:
-        raise f.fail(f"give either 'frequencies' or 'start', 'stop' and 'points', not both")
+        raise f.fail("give either 'frequencies' or 'start', 'stop' and 'points', not both")
     if "frequencies" in f.data:
         v = f.data["frequencies"]
         if not (isinstance(v, list) and v and all(_is_number(x) for x in v)):

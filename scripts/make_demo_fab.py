@@ -273,7 +273,7 @@ def _copper_table(layer, f):
 
 def case_fab():
     """``cases/fab_demo.toml``: the board read from its fabrication files."""
-    return (HEADER + f'title = "Hot loop from Gerber and Excellon files"\n'
+    return (HEADER + 'title = "Hot loop from Gerber and Excellon files"\n'
             + COMMON
             + f'\n[fabrication]\nsource = "{NAME}/"       # Gerber X2 copper L1, L2 + Excellon (X2)\n')
 

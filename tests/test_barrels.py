@@ -1,7 +1,6 @@
 """Via barrel partial elements (Grover 1946 filament forms; Ohm's law)."""
 import math
 
-import numpy as np
 import pytest
 from scipy import integrate
 

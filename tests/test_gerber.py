@@ -14,7 +14,6 @@ import time
 
 import numpy as np
 import pytest
-import shapely
 from scipy import integrate
 
 from geometry.errors import InputError

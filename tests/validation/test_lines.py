@@ -1,7 +1,6 @@
 """Return paths: strip over a plane, parallel plates, a via barrel."""
 import math
 
-import numpy as np
 import pytest
 import shapely
 from scipy.integrate import quad

@@ -1,5 +1,4 @@
 """Straight strips against exact and published formulas (DC, uniform current)."""
-import numpy as np
 import pytest
 
 from geometry import gallery
