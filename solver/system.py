@@ -160,20 +160,17 @@ def assemble(mesh, layout, ports, lumped=(), *, n_freqs=1, f_max=0.0, memory_lim
     _check_memory(network.n_branches, basis.loops.shape[1], len(ports), n_freqs, limit)
 
     t = time.perf_counter()
+    nb = network.n_branches
     n_edges = int((network.branch_kind == EDGE).sum())
     sheets = mesh.triangles[network.sheet_tri]
-    args = (network.half_branch, network.half_tri, network.half_vertex, network.half_sign, n_edges)
+    # Edge branches come first; the matrices are built at full size so that L is never copied.
+    args = (network.half_branch, network.half_tri, network.half_vertex, network.half_sign, nb)
     if n_edges:
-        L_edges = partial.inductance_matrix(mesh.points, sheets, network.sheet_z, *args)
-        R_edges = partial.resistance_matrix(mesh.points, sheets, network.sheet_resistance, *args)
+        L = partial.inductance_matrix(mesh.points, sheets, network.sheet_z, *args)
+        R = partial.resistance_matrix(mesh.points, sheets, network.sheet_resistance, *args)
     else:                                   # only vias and lumped branches carry current
-        L_edges, R_edges = np.zeros((0, 0)), sp.csr_matrix((0, 0))
+        L, R = np.zeros((nb, nb)), sp.csr_matrix((nb, nb))
     r_bar, l_bar = _barrel_matrices(network, layout)
-
-    nb = network.n_branches
-    L = np.zeros((nb, nb))
-    L[:n_edges, :n_edges] = L_edges
-    del L_edges
     bar = np.flatnonzero(network.branch_kind == BARREL)
     L[np.ix_(bar, bar)] = l_bar
     lum = np.flatnonzero(network.branch_kind == LUMPED)
@@ -181,7 +178,6 @@ def assemble(mesh, layout, ports, lumped=(), *, n_freqs=1, f_max=0.0, memory_lim
     diag = np.zeros(nb)
     diag[bar] = r_bar
     diag[lum] = network.lumped_rl[:, 0]
-    R = sp.block_diag([R_edges, sp.csr_matrix((nb - n_edges, nb - n_edges))], format="csr")
     R = (R + sp.diags(diag)).tocsr()
     timing["assemble"] = time.perf_counter() - t
     return System(network=network, basis=basis, R=R, L=L, ports=tuple(ports),
