@@ -127,7 +127,7 @@ def _decorate(ax, mesh, case, layer_index, tris, points, local, markers, shade):
         if layer in (via.connects or via.span):
             ax.add_patch(_circle(via.x / scale, via.y / scale, 0.5 * via.drill / scale))
     for n, b in enumerate(markers, start=1):
-        if b.layer == layer or layer in b.layer.split("-"):
+        if layer in b.layers:
             ax.text(b.x / scale, b.y / scale, str(n), ha="center", va="center", fontsize=9,
                     fontweight="bold", color="black", zorder=7,
                     bbox=dict(boxstyle="circle,pad=0.25", fc="#ffffffdd", ec="#0066cc", lw=1.5))

@@ -79,6 +79,8 @@ class ShareItem:
         Henry per ampere squared of port current.
     resistance_share : float
         Ohm per ampere squared of port current.
+    layers : tuple of str
+        The layers it touches (where its marker is drawn).
     """
 
     kind: str
@@ -88,6 +90,7 @@ class ShareItem:
     y: float
     inductance_share: float
     resistance_share: float
+    layers: tuple = ()
 
 
 @dataclass(frozen=True, eq=False)
@@ -155,6 +158,8 @@ class Bottleneck:
         Mesh triangles of the region (empty for vias and lumped branches).
     frequency : float
         Hz.
+    layers : tuple of str
+        The layers it touches (where its marker is drawn).
     """
 
     port: str
@@ -170,6 +175,7 @@ class Bottleneck:
     area: float
     triangles: np.ndarray
     frequency: float
+    layers: tuple = ()
 
     def as_dict(self, unit_scale=1.0, rank=None):
         """Plain JSON-ready dict, lengths in the case's units (metres divided by ``unit_scale``)."""
@@ -328,7 +334,7 @@ def share_items(mesh, system, layout, lumped, ell, r):
         via = layout.vias[v]
         span = f"{net.barrels['upper'][seg.min()]}-{net.barrels['lower'][seg.max()]}"
         items.append(ShareItem("via", via.name, span, via.x, via.y,
-                               float(ell[rows].sum()), float(r[rows].sum())))
+                               float(ell[rows].sum()), float(r[rows].sum()), tuple(via.connects)))
     cent = mesh.centroids
     for b in np.flatnonzero(net.branch_kind == LUMPED):
         item = lumped[net.branch_item[b]]
@@ -339,7 +345,7 @@ def share_items(mesh, system, layout, lumped, ell, r):
             layers.append(mesh.layer_names[int(net.node_layer[node])])
         x, y = np.mean(xy, axis=0)
         items.append(ShareItem("lumped", item.name, "-".join(dict.fromkeys(layers)), float(x),
-                               float(y), float(ell[b]), float(r[b])))
+                               float(y), float(ell[b]), float(r[b]), tuple(dict.fromkeys(layers))))
     return tuple(items)
 
 
@@ -510,7 +516,8 @@ def find_bottlenecks(mesh, maps, *, fraction=BOTTLENECK_FRACTION, passes=SMOOTHI
                               inductance_share=_fraction(item.inductance_share, maps.inductance),
                               resistance_share=_fraction(item.resistance_share, maps.resistance),
                               inductance=item.inductance_share, resistance=item.resistance_share,
-                              area=0.0, triangles=np.zeros(0, np.int64), frequency=maps.frequency))
+                              area=0.0, triangles=np.zeros(0, np.int64), frequency=maps.frequency,
+                              layers=item.layers))
     out.sort(key=lambda b: -b.inductance)
     return out
 
@@ -528,8 +535,9 @@ def _copper_bottleneck(mesh, maps, tris):
     x, y = cent[np.argmin(np.hypot(*(cent - centre).T))]
     ell = float(share.sum())
     r = float(maps.resistance_share[tris].sum())
-    return Bottleneck(port=maps.port, kind="copper", name="",
-                      layer=mesh.layer_names[int(mesh.tri_layer[tris[0]])], x=float(x), y=float(y),
+    layer = mesh.layer_names[int(mesh.tri_layer[tris[0]])]
+    return Bottleneck(port=maps.port, kind="copper", name="", layer=layer, layers=(layer,),
+                      x=float(x), y=float(y),
                       inductance_share=_fraction(ell, maps.inductance),
                       resistance_share=_fraction(r, maps.resistance), inductance=ell, resistance=r,
                       area=float(mesh.areas[tris].sum()), triangles=tris, frequency=maps.frequency)
