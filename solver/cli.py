@@ -199,13 +199,18 @@ def _cmd_compare(args):
 DEMO_CASES = ("buck_baseline.toml", "buck_cap_near.toml", "buck_pour.toml")
 
 
+def bundled_cases():
+    """Folder of the bundled cases: the checkout's ``cases/``, else the installed copy."""
+    for root in (Path(__file__).resolve().parents[1] / "cases",
+                 Path(sys.prefix) / "share" / "copperpath" / "cases"):
+        if all((root / name).is_file() for name in DEMO_CASES):
+            return root
+    raise InputError(f"demo: the bundled cases ({', '.join(DEMO_CASES)}) are not installed; "
+                     f"install copperpath from its source tree (`pip install -e .`)")
+
+
 def _cmd_demo(args):
-    root = Path(__file__).resolve().parents[1] / "cases"
-    paths = [root / name for name in DEMO_CASES]
-    missing = [str(p) for p in paths if not p.is_file()]
-    if missing:
-        raise InputError(f"demo: bundled case not found: {missing[0]} (reinstall from a checkout "
-                         f"with `pip install -e .`)")
+    paths = [bundled_cases() / name for name in DEMO_CASES]
     out = Path(args.out) if args.out else Path("out") / "demo"
     print("copperpath demo: a 24 V to 5 V, 8 A synchronous buck stage on a four-layer board; "
           "three variants of its hot loop.")
