@@ -80,6 +80,15 @@ def run_case(case, out, *, freqs=None, quiet=False, write=True):
                    progress=None if quiet else _progress(Path(case.path).stem),
                    method=case.solver.method, rtol=case.solver.tolerance)
     timing["solve"] = time.perf_counter() - t
+    checks = result.info["checks"]
+    if checks["min_port_resistance_ohm"] is not None and checks["min_port_resistance_ohm"] <= 0:
+        print(f"warning: {Path(case.path).name}: a port resistance is not positive "
+              f"({checks['min_port_resistance_ohm']:.3g} ohm): the mesh is too coarse or the "
+              f"case is degenerate", file=sys.stderr)
+    if checks["max_reciprocity_error"] > 1e-6:
+        print(f"warning: {Path(case.path).name}: Z_ij and Z_ji differ by "
+              f"{checks['max_reciprocity_error']:.2g} (relative); lower [solver] tolerance",
+              file=sys.stderr)
     say("writing maps, exports and report")
     summary = write_outputs(case, mesh, system, result, out, timing=timing) if write else None
     say(None)
