@@ -85,7 +85,7 @@ def run_case(case, out, *, freqs=None, quiet=False, write=True):
         print(f"warning: {Path(case.path).name}: a port resistance is not positive "
               f"({checks['min_port_resistance_ohm']:.3g} ohm): the mesh is too coarse or the "
               f"case is degenerate", file=sys.stderr)
-    if checks["max_reciprocity_error"] > 1e-6:
+    if checks["max_reciprocity_error"] > max(1e-6, 10 * case.solver.tolerance):
         print(f"warning: {Path(case.path).name}: Z_ij and Z_ji differ by "
               f"{checks['max_reciprocity_error']:.2g} (relative); lower [solver] tolerance",
               file=sys.stderr)
