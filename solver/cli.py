@@ -46,6 +46,20 @@ def _stage(label):
     return say
 
 
+def _load(path, *, named=False):
+    """Load a case and print its notes (stdout) and warnings (stderr), prefixed with the file
+    name when ``named`` (several cases)."""
+    from geometry.case import load_case
+
+    case = load_case(path)
+    prefix = f"{Path(case.path).name}: " if named else ""
+    for line in case.notes:
+        print(f"note: {prefix}{line}")
+    for line in case.warnings:
+        print(f"warning: {prefix}{line}", file=sys.stderr)
+    return case
+
+
 def _out_dir(args, case_path):
     return Path(args.out) if args.out else Path("out") / Path(case_path).stem
 
@@ -96,16 +110,11 @@ def run_case(case, out, *, freqs=None, quiet=False, write=True):
 
 
 def _cmd_solve(args):
-    from geometry.case import load_case
     from solver.outputs import format_table
 
     if args.freq and not all(np.isfinite(f) and f >= 0 for f in args.freq):
         raise InputError(f"--freq: frequencies must be finite and >= 0 Hz, got {args.freq}")
-    case = load_case(args.case)
-    for line in case.notes:
-        print(f"note: {line}")
-    for line in case.warnings:
-        print(f"warning: {line}", file=sys.stderr)
+    case = _load(args.case)
     out = _out_dir(args, args.case)
     result, mesh, system, summary = run_case(case, out, freqs=sorted(set(args.freq or [])))
     print(format_table(case, result, summary))
@@ -114,13 +123,7 @@ def _cmd_solve(args):
 
 
 def _cmd_inspect(args):
-    from geometry.case import load_case
-
-    case = load_case(args.case)
-    for line in case.notes:
-        print(f"note: {line}")
-    for line in case.warnings:
-        print(f"warning: {line}", file=sys.stderr)
+    case = _load(args.case)
 
     from geometry.meshing import triangulate
     from solver.inspect import write_inspect
@@ -170,14 +173,10 @@ def _side_by_side(out, solved, comparison):
 
 def compare_cases(case_paths, out, *, port=None, quiet=False):
     """Solve each case into ``out/<case name>/`` and compare them; returns the comparison."""
-    from geometry.case import load_case
     from solver.compare import compare, comparison_sections, format_comparison
     from solver.report import write_comparison_report
 
-    cases = [load_case(p) for p in case_paths]
-    for case in cases:
-        for line in case.warnings:
-            print(f"warning: {Path(case.path).name}: {line}", file=sys.stderr)
+    cases = [_load(p, named=True) for p in case_paths]
     stems = [Path(c.path).stem for c in cases]
     if len(set(stems)) != len(stems):
         raise InputError("compare: two cases share a file name; their outputs would overwrite "
