@@ -3,7 +3,6 @@ from __future__ import annotations
 
 from pathlib import Path
 
-import numpy as np
 
 from solver.circuit import CAUTION, estimates
 from solver.exports.csv import write_impedance_csv
@@ -12,7 +11,7 @@ from solver.exports.spice import write_spice
 from solver.exports.touchstone import write_touchstone
 from solver.exports.vtu import write_vtu
 from solver.maps import map_frequencies, write_maps
-from solver.report import write_report
+from solver.report import engineering, write_report
 
 
 def mesh_stats(mesh, system):
@@ -91,7 +90,7 @@ def _estimate_rows(estimate):
     rows = []
     for key, label, unit in _ESTIMATE_ROWS:
         value = data.get(key)
-        shown = (f"{value:.3g}" if unit == "" else _si(value, unit)) if value is not None else \
+        shown = (f"{value:.3g}" if unit == "" else engineering(value, unit)) if value is not None else \
             f"- ({estimate.missing.get(key, 'not given')})"
         rows.append((label, shown, estimate.formulas.get(key, "")))
     return rows
@@ -106,11 +105,11 @@ def circuit_section(estimate):
     cells = "".join(f"<tr><td>{_html.escape(a)}</td><td>{_html.escape(b)}</td>"
                     f"<td><code>{_html.escape(c)}</code></td></tr>" for a, b, c in rows)
     notes = "".join(f"<li>{_html.escape(x)}</li>" for x in estimate.notes)
-    body = (f"<p>At {_si(estimate.frequency_hz, 'Hz')} (the highest swept frequency).</p>"
+    body = (f"<p>At {engineering(estimate.frequency_hz, 'Hz')} (the highest swept frequency).</p>"
             f"<table><tr><th>quantity</th><th>value</th><th>formula</th></tr>{cells}</table>"
             + (f"<ul>{notes}</ul>" if notes else "")
             + f"<p class='caution'>{_html.escape(CAUTION)}</p>")
-    md = [f"At {_si(estimate.frequency_hz, 'Hz')} (the highest swept frequency).", "",
+    md = [f"At {engineering(estimate.frequency_hz, 'Hz')} (the highest swept frequency).", "",
           "| quantity | value | formula |", "|---|---|---|"]
     md += [f"| {a} | {b} | `{c}` |" for a, b, c in rows]
     md += [""] + [f"- {x}" for x in estimate.notes] + ["", f"> {CAUTION}"]
@@ -128,20 +127,10 @@ def exports_section(stem, n_ports, fit_error):
 
 def format_estimate(estimate):
     """The circuit estimates as text lines."""
-    lines = [f"circuit estimates for port {estimate.port} at {_si(estimate.frequency_hz, 'Hz')}:"]
+    lines = [f"circuit estimates for port {estimate.port} at {engineering(estimate.frequency_hz, 'Hz')}:"]
     lines += [f"  {a:<28} {b:<16} {c}" for a, b, c in _estimate_rows(estimate)]
     lines += [f"  note: {x}" for x in estimate.notes]
     return "\n".join(lines)
-
-
-def _si(value, unit):
-    """Format a value with an engineering prefix, e.g. ``1.23 nH``."""
-    if value is None or not np.isfinite(value):
-        return "-"
-    for scale, prefix in ((1e-12, "p"), (1e-9, "n"), (1e-6, "u"), (1e-3, "m"), (1.0, ""), (1e3, "k"), (1e6, "M")):
-        if abs(value) < scale * 1000:
-            return f"{value / scale:.4g} {prefix}{unit}"
-    return f"{value:.4g} {unit}"
 
 
 def format_table(case, result, summary=None):
@@ -153,8 +142,8 @@ def format_table(case, result, summary=None):
         lines.append(f"port {name}  ({case.ports[k].plus} -> {case.ports[k].minus})")
         lines.append(f"  {'frequency':>12}  {'R':>12}  {'L':>12}")
         for i, f in enumerate(result.frequencies):
-            label = "DC" if f == 0 else _si(f, "Hz")
-            lines.append(f"  {label:>12}  {_si(r[i, k, k], 'ohm'):>12}  {_si(ell[i, k, k], 'H'):>12}")
+            label = "DC" if f == 0 else engineering(f, "Hz")
+            lines.append(f"  {label:>12}  {engineering(r[i, k, k], 'ohm'):>12}  {engineering(ell[i, k, k], 'H'):>12}")
     if summary and summary.get("bottlenecks"):
         lines.append(f"bottlenecks (share of loop L and R; x, y in {case.unit}):")
         for b in summary["bottlenecks"]:

@@ -50,7 +50,7 @@ def _esc(text):
     return html.escape(str(text), quote=True)
 
 
-def _eng(value, unit, digits=4):
+def engineering(value, unit, digits=4):
     """``0.0123, "ohm" -> "12.3 mohm"`` (HTML-free text)."""
     if value is None or not np.isfinite(value):
         return "-"
@@ -62,7 +62,7 @@ def _eng(value, unit, digits=4):
 
 
 def _freq(f):
-    return "DC" if f == 0 else _eng(f, "Hz")
+    return "DC" if f == 0 else engineering(f, "Hz")
 
 
 def _table(head, rows, left=1):
@@ -90,7 +90,7 @@ def _case_tables(case, summary):
              ("terminals", ", ".join(t.name for t in case.layout.terminals) or "-"),
              ("ports", "; ".join(f"{p.name}: {p.plus} -> {p.minus}" for p in case.ports) or "-"),
              ("lumped", "; ".join(f"{x.name} ({x.between[0]}-{x.between[1]}, "
-                                  f"{_eng(x.resistance, 'ohm')}, {_eng(x.inductance, 'H')})"
+                                  f"{engineering(x.resistance, 'ohm')}, {engineering(x.inductance, 'H')})"
                                   for x in case.lumped) or "-"),
              ("frequencies", ", ".join(_freq(f) for f in case.frequencies))]
     mesh = (summary or {}).get("mesh") or {}
@@ -120,7 +120,7 @@ def _bottleneck_table(bottlenecks, unit):
         where = b.get("name") or "-"
         rows.append((str(b.get("rank", "")), b["port"], b.get("kind", ""), where, b["layer"],
                      f"{b['x']:.4g}", f"{b['y']:.4g}", f"{100 * b['inductance_share']:.1f}",
-                     _eng(b.get("inductance_h"), "H", 3), f"{100 * b['resistance_share']:.1f}",
+                     engineering(b.get("inductance_h"), "H", 3), f"{100 * b['resistance_share']:.1f}",
                      f"{b.get('area', 0.0):.3g}", _freq(b.get("frequency_hz", 0.0))))
     return _table(["#", "port", "kind", "item", "layer", f"x ({unit})", f"y ({unit})",
                    "L share (%)", "L", "R share (%)", f"area ({unit}^2)", "at"], rows, left=5)
