@@ -1,6 +1,6 @@
-"""Read a case file (TOML, DESIGN.md section 4) into a :class:`~geometry.model.Case` in SI units.
+"""Read a case file (TOML, DESIGN.md section 4) into a :class:`~copperpath.geometry.model.Case` in SI units.
 
-Every problem raises :class:`~geometry.errors.InputError` with one line
+Every problem raises :class:`~copperpath.geometry.errors.InputError` with one line
 ``<file>: <table/item>: <what was wrong and what was expected>``; numbers are quoted in the
 units of the file that holds them, items are counted from 1 in their file or named by
 their ``name``.
@@ -19,7 +19,7 @@ Decisions not spelled out in the design:
   sorted and repeated values dropped. Without ``[sweep]`` the sweep is DC only.
 - ``[circuit]``: ``current`` + ``rise_time`` set ``di_dt = current / rise_time``; ``port``
   defaults to the only port.
-- Fabrication data (see :mod:`geometry.formats.board` for holes, slots and spans): a
+- Fabrication data (see :mod:`copperpath.geometry.formats.board` for holes, slots and spans): a
   layer's ``artwork`` Gerber file adds its copper to that layer; a ``[[drill]]`` file adds
   a via for each plated hole (span: the table's ``layers``, else the file's X2 span, else
   all layers); ``[fabrication] source`` gives copper layer ``n`` to the ``n``-th layer from
@@ -37,26 +37,23 @@ from pathlib import Path
 
 import numpy as np
 
-from geometry import shapes
-from geometry.connectivity import bodies, floating_islands
-from geometry.errors import input_error
-from geometry.formats import board
-from geometry.formats import read_artwork as read_gerber
-from geometry.formats import read_drills
-from geometry.formats.fabrication import scan
-from geometry.layout import CopperShape, build_layout, via_array
-from geometry.model import (Case, CircuitOptions, Layer, Lumped, MeshOptions, Port,
+from copperpath.geometry import shapes
+from copperpath.geometry.connectivity import bodies, floating_islands
+from copperpath.geometry.errors import input_error
+from copperpath.geometry.formats import board
+from copperpath.geometry.formats import read_artwork as read_gerber
+from copperpath.geometry.formats import read_drills
+from copperpath.geometry.formats.fabrication import scan
+from copperpath.geometry.layout import CopperShape, build_layout, via_array
+from copperpath.geometry.model import (Case, CircuitOptions, Layer, Lumped, MeshOptions, Port,
                             SolverOptions, Terminal, Via)
-from geometry.units import UNITS, unit_scale
+from copperpath.geometry.physics import EPS_R_BOARD, quasi_static_frequency
+from copperpath.geometry.units import UNITS, unit_scale
 
 ARRAY_TABLES = ("layer", "copper", "via", "drill", "terminal", "port", "lumped")
 SINGLE_TABLES = ("sweep", "mesh", "window", "solver", "circuit", "fabrication")
 TOP_KEYS = ("title", "units", "extends") + ARRAY_TABLES + SINGLE_TABLES
 
-#: Speed of light in vacuum, m/s (exact, SI 2019).
-C0 = 299_792_458.0
-#: Relative permittivity of FR-4 used for the quasi-static check (about 4.5, common practice).
-EPS_R_FR4 = 4.5
 #: Default barrel plating in metres (see the module docstring).
 DEFAULT_PLATING = 25e-6
 #: Default pad diameter minus drill diameter in metres.
@@ -528,7 +525,7 @@ def _circuit(item, ports):
         port = names[0]
     else:
         raise f.fail(f"'port' must name the port to use, one of {len(names)} in the case")
-    pos = dict(lower=0, what="a positive number (SI)")
+    pos = {"lower": 0, "what": "a positive number (SI)"}
     di_dt = f.number("di_dt", None, **pos)
     current, rise = f.number("current", None, **pos), f.number("rise_time", None, **pos)
     if di_dt is not None and (current is not None or rise is not None):
@@ -638,7 +635,7 @@ def quasi_static_limit(layout):
 
     Parameters
     ----------
-    layout : geometry.model.Layout
+    layout : copperpath.geometry.model.Layout
 
     Returns
     -------
@@ -648,9 +645,9 @@ def quasi_static_limit(layout):
 
     Examples
     --------
-    >>> from geometry.layout import CopperShape, build_layout
-    >>> from geometry.model import Layer
-    >>> from geometry.shapes import rect
+    >>> from copperpath.geometry.layout import CopperShape, build_layout
+    >>> from copperpath.geometry.model import Layer
+    >>> from copperpath.geometry.shapes import rect
     >>> lay = build_layout([Layer("L1", 0.0, 35e-6)], [CopperShape("L1", rect(0, 0, 0.1, 1e-3))])
     >>> f_max, d = quasi_static_limit(lay)
     >>> round(f_max / 1e6), round(d, 4)  # 100 mm of copper: about 141 MHz
@@ -662,7 +659,7 @@ def quasi_static_limit(layout):
     b = np.asarray(boxes)
     dz = max(la.z_top for la in layout.layers) - min(la.z for la in layout.layers)
     d = math.sqrt((b[:, 2].max() - b[:, 0].min()) ** 2 + (b[:, 3].max() - b[:, 1].min()) ** 2 + dz ** 2)
-    return C0 / (10.0 * math.sqrt(EPS_R_FR4) * d), d
+    return quasi_static_frequency(d), d
 
 
 # ----------------------------------------------------------------------------- entry
@@ -675,17 +672,17 @@ def load_case(path, *, read_artwork=None):
         The case file; relative paths inside it resolve against its folder.
     read_artwork : callable, optional
         ``read_artwork(path)`` returns the copper of a layer's ``artwork`` file: a
-        :class:`geometry.formats.gerber.Artwork` or a shapely geometry in metres. Default
-        :func:`geometry.formats.read_artwork` (Gerber RS-274X/X2).
+        :class:`copperpath.geometry.formats.gerber.Artwork` or a shapely geometry in metres. Default
+        :func:`copperpath.geometry.formats.read_artwork` (Gerber RS-274X/X2).
 
     Returns
     -------
-    geometry.model.Case
+    copperpath.geometry.model.Case
         Everything in SI units, the layout built and checked.
 
     Raises
     ------
-    geometry.errors.InputError
+    copperpath.geometry.errors.InputError
         For any problem in the file or in the artwork, drill and fabrication files it
         names, with a one-line message.
     """
@@ -726,7 +723,7 @@ def load_case(path, *, read_artwork=None):
     f_lim, d = quasi_static_limit(layout)
     if frequencies.max() > f_lim:
         warnings.append(f"{path}: [sweep]: top frequency {frequencies.max():g} Hz exceeds the "
-                        f"quasi-static limit c0/(10 sqrt({EPS_R_FR4:g}) D) = {f_lim:.3g} Hz for the "
+                        f"quasi-static limit c0/(10 sqrt({EPS_R_BOARD:g}) D) = {f_lim:.3g} Hz for the "
                         f"largest modelled dimension D = {d / scale:g} {doc['unit']}")
     return Case(path=path, title=doc["title"] or path.stem, unit=doc["unit"], unit_scale=scale,
                 layout=layout, ports=ports, lumped=lumped, frequencies=frequencies,

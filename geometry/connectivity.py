@@ -14,8 +14,8 @@ import shapely
 from scipy.sparse import coo_matrix
 from scipy.sparse.csgraph import connected_components
 
-from geometry.layout import shares_area
-from geometry.shapes import circle
+from copperpath.geometry.layout import shares_area
+from copperpath.geometry.shapes import circle
 
 
 @dataclass(frozen=True, eq=False)
@@ -51,7 +51,7 @@ def islands(layout):
 
     Parameters
     ----------
-    layout : geometry.model.Layout
+    layout : copperpath.geometry.model.Layout
 
     Returns
     -------
@@ -87,8 +87,8 @@ def bodies(layout, lumped=()):
 
     Parameters
     ----------
-    layout : geometry.model.Layout
-    lumped : sequence of geometry.model.Lumped
+    layout : copperpath.geometry.model.Layout
+    lumped : sequence of copperpath.geometry.model.Lumped
         Branches; each joins the bodies of its two terminals.
 
     Returns
@@ -102,9 +102,9 @@ def bodies(layout, lumped=()):
 
     Examples
     --------
-    >>> from geometry.model import Layer, Lumped, Terminal
-    >>> from geometry.layout import CopperShape, build_layout
-    >>> from geometry.shapes import rect
+    >>> from copperpath.geometry.model import Layer, Lumped, Terminal
+    >>> from copperpath.geometry.layout import CopperShape, build_layout
+    >>> from copperpath.geometry.shapes import rect
     >>> lay = build_layout([Layer("L1", 0.0, 35e-6)],
     ...     [CopperShape("L1", rect(0, 0, 1e-3, 1e-3)), CopperShape("L1", rect(2e-3, 0, 3e-3, 1e-3))],
     ...     terminals=[Terminal("a", "L1", rect(0, 0, 1e-3, 1e-3)),

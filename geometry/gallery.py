@@ -1,6 +1,6 @@
 """Small layouts with known answers, for tests and benchmarks (all lengths in metres).
 
-Each function returns a :class:`geometry.model.Layout` built directly with shapely. Via pads
+Each function returns a :class:`copperpath.geometry.model.Layout` built directly with shapely. Via pads
 follow the layout convention: on every layer in ``Via.connects`` the copper holds the pad
 disk (``shapely.Point.buffer`` with its default 16 segments per quarter circle) minus the
 drill hole. Terminals are named in each docstring; a port is the caller's choice.
@@ -10,7 +10,7 @@ from __future__ import annotations
 import shapely
 from shapely.geometry import box
 
-from geometry.model import Layer, Layout, Terminal, Via
+from copperpath.geometry.model import Layer, Layout, Terminal, Via
 
 COPPER_35UM = 35e-6
 """1 oz copper thickness in metres (common practice)."""

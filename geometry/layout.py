@@ -1,4 +1,4 @@
-"""Build the :class:`~geometry.model.Layout`: per-layer copper, vias and terminals in metres.
+"""Build the :class:`~copperpath.geometry.model.Layout`: per-layer copper, vias and terminals in metres.
 
 Order of operations on each layer (all boolean operations snap to ``grid_size``, 1 nm by
 default, which keeps the result clean and reproducible):
@@ -13,7 +13,7 @@ default, which keeps the result clean and reproducible):
 4. vias: on each layer of a via's span whose copper overlaps the pad disk (a shared area,
    not just a touching point), the whole pad disk (diameter ``pad``) is added and the layer
    is recorded in ``Via.connects`` (top down); a pad that the copper already covers to
-   within the polygon tolerance of the shapes (:data:`geometry.shapes.CHORD_TOL`: the pad
+   within the polygon tolerance of the shapes (:data:`copperpath.geometry.shapes.CHORD_TOL`: the pad
    flashed in artwork, drawn with other chords) is not added again; then the drill hole
    (diameter ``drill``) of every via is cut from every layer of its span, connected or
    not, all holes of a layer at once; the result is cropped to the window again;
@@ -28,9 +28,9 @@ import numpy as np
 import shapely
 from shapely.geometry import GeometryCollection, MultiPolygon, Polygon
 
-from geometry.errors import input_error
-from geometry.model import Layout, Terminal
-from geometry.shapes import CHORD_TOL, circle
+from copperpath.geometry.errors import input_error
+from copperpath.geometry.model import Layout, Terminal
+from copperpath.geometry.shapes import CHORD_TOL, circle
 
 #: Precision grid of the copper in metres (1 nm).
 GRID = 1e-9
@@ -108,7 +108,7 @@ def via_array(via, pitch, count):
 
     Parameters
     ----------
-    via : geometry.model.Via
+    via : copperpath.geometry.model.Via
         The first via (its centre is the grid's first point).
     pitch : tuple of float
         ``(dx, dy)`` spacing in metres (may be negative to grow left or down).
@@ -117,13 +117,13 @@ def via_array(via, pitch, count):
 
     Returns
     -------
-    tuple of geometry.model.Via
+    tuple of copperpath.geometry.model.Via
         ``nx * ny`` vias named ``"<name>[i,j]"`` (i along x, j along y, from 0), ordered
         with i running fastest.
 
     Examples
     --------
-    >>> from geometry.model import Via
+    >>> from copperpath.geometry.model import Via
     >>> v = Via("g", 0.0, 0.0, 0.3e-3, 25e-6, 0.6e-3, ("L1", "L2"))
     >>> [(w.name, w.x) for w in via_array(v, (1e-3, 0.0), (2, 1))]
     [('g[0,0]', 0.0), ('g[1,0]', 0.001)]
@@ -237,14 +237,14 @@ def build_layout(layers, shapes=(), vias=(), terminals=(), *, window=None, artwo
 
     Parameters
     ----------
-    layers : sequence of geometry.model.Layer
+    layers : sequence of copperpath.geometry.model.Layer
         The stackup, any order; the layout holds it top (highest z) first.
     shapes : sequence of CopperShape
         ``[[copper]]`` shapes in file order, lengths in metres.
-    vias : sequence of geometry.model.Via
+    vias : sequence of copperpath.geometry.model.Via
         Vias (arrays already expanded, see :func:`via_array`); ``connects`` is ignored
         and filled in here.
-    terminals : sequence of geometry.model.Terminal
+    terminals : sequence of copperpath.geometry.model.Terminal
         Terminals with their drawn shapes.
     window : tuple of float, optional
         ``(x0, y0, x1, y1)`` in metres: only copper inside is kept.
@@ -260,19 +260,19 @@ def build_layout(layers, shapes=(), vias=(), terminals=(), *, window=None, artwo
 
     Returns
     -------
-    geometry.model.Layout
+    copperpath.geometry.model.Layout
         Copper as one normalised MultiPolygon per layer.
 
     Raises
     ------
-    geometry.errors.InputError
+    copperpath.geometry.errors.InputError
         If a shape or terminal names an unknown layer, a terminal does not lie on
         copper, or two terminals of one layer overlap.
 
     Examples
     --------
-    >>> from geometry.model import Layer
-    >>> from geometry.shapes import rect
+    >>> from copperpath.geometry.model import Layer
+    >>> from copperpath.geometry.shapes import rect
     >>> lay = build_layout([Layer("L1", 0.0, 35e-6)],
     ...                    [CopperShape("L1", rect(0, 0, 4e-3, 1e-3)),
     ...                     CopperShape("L1", rect(1e-3, 0, 2e-3, 1e-3), clear=True)])

@@ -41,9 +41,9 @@ import numpy as np
 import shapely
 from scipy.spatial import cKDTree
 
-from geometry.errors import input_error
-from geometry.mesh import Mesh
-from geometry.model import Layout, MeshOptions
+from copperpath.geometry.errors import input_error
+from copperpath.geometry.mesh import Mesh
+from copperpath.geometry.model import Layout, MeshOptions
 
 GRID = 1e-9
 """Snapping grid of the PSLG in metres."""
@@ -96,7 +96,7 @@ def via_pad_region(via) -> shapely.Polygon:
 
     Parameters
     ----------
-    via : geometry.model.Via
+    via : copperpath.geometry.model.Via
 
     Returns
     -------
@@ -104,7 +104,7 @@ def via_pad_region(via) -> shapely.Polygon:
 
     Examples
     --------
-    >>> from geometry.model import Via
+    >>> from copperpath.geometry.model import Via
     >>> pad = via_pad_region(Via("V", 0.0, 0.0, 0.3e-3, 25e-6, 0.6e-3, ("L1",)))
     >>> round(pad.area / 0.3e-3 ** 2, 4)  # 8 tan(22.5 deg)
     3.3137
@@ -131,7 +131,7 @@ def layout_regions(layout: Layout) -> tuple[Region, ...]:
 
     Parameters
     ----------
-    layout : geometry.model.Layout
+    layout : copperpath.geometry.model.Layout
 
     Returns
     -------
@@ -139,7 +139,7 @@ def layout_regions(layout: Layout) -> tuple[Region, ...]:
 
     Raises
     ------
-    geometry.errors.InputError
+    copperpath.geometry.errors.InputError
         A terminal on an unknown layer or off the copper, or two terminals in one region.
     """
     names = [layer.name for layer in layout.layers]
@@ -345,14 +345,14 @@ def triangulate(layout: Layout, options: MeshOptions = MeshOptions()) -> Mesh:
 
     Parameters
     ----------
-    layout : geometry.model.Layout
+    layout : copperpath.geometry.model.Layout
         Copper, vias and terminals in metres.
     options : MeshOptions
         ``max_edge`` and ``min_edge`` in metres.
 
     Returns
     -------
-    geometry.mesh.Mesh
+    copperpath.geometry.mesh.Mesh
         Triangles tagged with their layer and region (regions as :func:`layout_regions`);
         identical arrays for identical input.
 
@@ -360,7 +360,7 @@ def triangulate(layout: Layout, options: MeshOptions = MeshOptions()) -> Mesh:
     ------
     ValueError
         ``min_edge`` not positive or larger than ``max_edge``.
-    geometry.errors.InputError
+    copperpath.geometry.errors.InputError
         See :func:`layout_regions`.
     """
     if not 0.0 < options.min_edge <= options.max_edge:

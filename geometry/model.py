@@ -1,6 +1,6 @@
 """Plain data objects that describe a case, all lengths in metres (SI).
 
-The case reader (:mod:`geometry.case`) builds them; the mesher and the solver read them.
+The case reader (:mod:`copperpath.geometry.case`) builds them; the mesher and the solver read them.
 They are frozen: a stage that changes something returns a new object.
 """
 from __future__ import annotations
@@ -237,3 +237,11 @@ class Case:
     drills: tuple[dict, ...] = ()
     fabrication: Path | None = None
     notes: tuple[str, ...] = ()
+
+    @property
+    def default_port(self) -> str | None:
+        """The port a study looks at when none is named: the ``[circuit]`` port, else the
+        first ``[[port]]``, else ``None`` (the one rule for every command)."""
+        if self.circuit is not None and self.circuit.port:
+            return self.circuit.port
+        return self.ports[0].name if self.ports else None

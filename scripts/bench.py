@@ -26,10 +26,10 @@ def run_one(case_path, scale, n_freqs, method):
     """Solve one mesh size in this process and return the measurements as a dict."""
     import numpy as np
 
-    from geometry.case import load_case
-    from geometry.meshing import triangulate
-    from solver.sweep import solve
-    from solver.system import assemble
+    from copperpath.geometry.case import load_case
+    from copperpath.geometry.meshing import triangulate
+    from copperpath.solver.solve.sweep import solve
+    from copperpath.solver.solve.system import assemble
 
     case = load_case(case_path)
     opts = dataclasses.replace(case.mesh, max_edge=case.mesh.max_edge * scale,

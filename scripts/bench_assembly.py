@@ -1,7 +1,7 @@
 """Time the dense partial-inductance assembly on a 30 mm x 20 mm plate at four mesh sizes.
 
 For each size the plate (a wide strip with full-width terminals at both ends) is meshed, the
-network is built and :func:`solver.partial.inductance_matrix` is timed after a warm-up call that
+network is built and :func:`copperpath.solver.elements.partial.inductance_matrix` is timed after a warm-up call that
 compiles the numba loops. The DC current of the plate is uniform, so its loop inductance
 ``I^T L I`` (``I`` from the sparse resistive system) must equal the exact partial self-inductance
 of the bar between the terminals' inner edges (Hoer & Love 1965, "Exact inductance equations
@@ -25,11 +25,11 @@ import scipy.sparse.linalg as spla
 
 sys.path.insert(0, os.path.dirname(os.path.dirname(os.path.abspath(__file__))))
 
-from geometry import gallery  # noqa: E402
-from geometry.meshing import triangulate  # noqa: E402
-from geometry.model import MeshOptions  # noqa: E402
-from solver import partial  # noqa: E402
-from solver.network import build_network  # noqa: E402
+from copperpath.geometry import gallery  # noqa: E402
+from copperpath.geometry.meshing import triangulate  # noqa: E402
+from copperpath.geometry.model import MeshOptions  # noqa: E402
+from copperpath.solver.elements import partial  # noqa: E402
+from copperpath.solver.graph.network import build_network  # noqa: E402
 from tests.validation.references import bar_self_inductance  # noqa: E402
 
 LENGTH, WIDTH, THICKNESS = 30e-3, 20e-3, 35e-6

@@ -1,7 +1,7 @@
 """Mesh convergence of the loop inductance at high frequency (current crowding at the edges).
 
 A strip over a plane (6 x 1 mm, 0.2 mm gap), shorted to it by a via at the far end
-(geometry.gallery.strip_over_plane), solved at DC and 100 MHz for the default mesh settings scaled by each factor (2 = twice as
+(copperpath.geometry.gallery.strip_over_plane), solved at DC and 100 MHz for the default mesh settings scaled by each factor (2 = twice as
 coarse, 0.5 = twice as fine). Prints a table for DEVELOPERS.md.
 
     python scripts/convergence.py [--scales 2 1.4 1 0.7 0.5]
@@ -12,11 +12,11 @@ import argparse
 import sys
 import time
 
-from geometry import gallery
-from geometry.meshing import triangulate
-from geometry.model import MeshOptions, Port
-from solver.sweep import solve
-from solver.system import assemble
+from copperpath.geometry import gallery
+from copperpath.geometry.meshing import triangulate
+from copperpath.geometry.model import MeshOptions, Port
+from copperpath.solver.solve.sweep import solve
+from copperpath.solver.solve.system import assemble
 
 
 def main(argv=None):

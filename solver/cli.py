@@ -6,15 +6,19 @@ Only this module prints and picks exit codes.
 from __future__ import annotations
 
 import argparse
+import contextlib
+import math
 import os
 import sys
-import time
 import traceback
+import warnings
 from pathlib import Path
 
 import numpy as np
 
-from geometry.errors import InputError
+import copperpath
+from copperpath.geometry.errors import InputError
+from copperpath.study import CopperpathWarning
 
 
 def _progress(label):
@@ -46,18 +50,53 @@ def _stage(label):
     return say
 
 
+@contextlib.contextmanager
+def _printed_warnings():
+    """Print the API's warnings as ``warning: ...`` lines on stderr (only the CLI prints)."""
+    with warnings.catch_warnings(record=True) as caught:
+        warnings.simplefilter("always", CopperpathWarning)
+        try:
+            yield
+        finally:
+            for w in caught:
+                if issubclass(w.category, CopperpathWarning):
+                    print(f"warning: {w.message}", file=sys.stderr)
+                else:
+                    warnings.showwarning(w.message, w.category, w.filename, w.lineno)
+
+
 def _load(path, *, named=False):
     """Load a case and print its notes (stdout) and warnings (stderr), prefixed with the file
     name when ``named`` (several cases)."""
-    from geometry.case import load_case
-
-    case = load_case(path)
+    with _printed_warnings():
+        case = copperpath.load_case(path)
     prefix = f"{Path(case.path).name}: " if named else ""
     for line in case.notes:
         print(f"note: {prefix}{line}")
-    for line in case.warnings:
-        print(f"warning: {prefix}{line}", file=sys.stderr)
     return case
+
+
+_PREFIX = {"": 1.0, "k": 1e3, "K": 1e3, "M": 1e6, "G": 1e9}
+
+
+def parse_frequency(text):
+    """A frequency from the command line: a number in Hz, optionally with an SI prefix and unit.
+
+    Examples
+    --------
+    >>> [parse_frequency(t) for t in ("0", "2e8", "1MHz", "250k", "1.5 GHz", "10 kHz")]
+    [0.0, 200000000.0, 1000000.0, 250000.0, 1500000000.0, 10000.0]
+    """
+    import re
+
+    m = re.fullmatch(r"\s*([-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?)\s*([kKMG]?)(?:Hz|hz)?\s*", text)
+    if not m:
+        raise argparse.ArgumentTypeError(
+            f"expected a frequency in Hz such as 1e6, 1MHz or 250k, got {text!r}")
+    value = float(m.group(1)) * _PREFIX[m.group(2)]
+    if not math.isfinite(value) or value < 0:
+        raise argparse.ArgumentTypeError(f"frequencies must be finite and >= 0 Hz, got {text!r}")
+    return value
 
 
 def _out_dir(args, case_path):
@@ -65,59 +104,34 @@ def _out_dir(args, case_path):
 
 
 def run_case(case, out, *, freqs=None, quiet=False, write=True):
-    """Mesh, assemble and solve one case, and write its outputs to ``out``.
+    """Solve one case through the API and write its outputs to ``out``.
 
     Returns
     -------
     tuple
-        ``(result, mesh, system, summary)`` where ``summary`` is the ``result.json`` data.
+        ``(solution, summary)`` where ``summary`` is the ``result.json`` data (``None`` when
+        ``write`` is false).
     """
-    from geometry.meshing import triangulate
-    from solver.outputs import write_outputs
-    from solver.sweep import solve
-    from solver.system import assemble
-
-    frequencies = np.asarray(freqs if freqs else case.frequencies, float)
-    say = _stage(None if quiet else Path(case.path).stem)
-    timing = {}
-    t = time.perf_counter()
-    say("meshing")
-    mesh = triangulate(case.layout, case.mesh)
-    timing["mesh"] = time.perf_counter() - t
-    say(f"assembling ({mesh.n_triangles} triangles)")
-    t = time.perf_counter()
-    system = assemble(mesh, case.layout, case.ports, case.lumped, n_freqs=len(frequencies),
-                      f_max=float(frequencies.max(initial=0.0)))
-    timing["assemble"] = time.perf_counter() - t
-    t = time.perf_counter()
-    result = solve(system, frequencies, title=case.title,
-                   progress=None if quiet else _progress(Path(case.path).stem),
-                   method=case.solver.method, rtol=case.solver.tolerance)
-    timing["solve"] = time.perf_counter() - t
-    checks = result.info["checks"]
-    if checks["min_port_resistance_ohm"] is not None and checks["min_port_resistance_ohm"] <= 0:
-        print(f"warning: {Path(case.path).name}: a port resistance is not positive "
-              f"({checks['min_port_resistance_ohm']:.3g} ohm): the mesh is too coarse or the "
-              f"case is degenerate", file=sys.stderr)
-    if checks["max_reciprocity_error"] > max(1e-6, 10 * case.solver.tolerance):
-        print(f"warning: {Path(case.path).name}: Z_ij and Z_ji differ by "
-              f"{checks['max_reciprocity_error']:.2g} (relative); lower [solver] tolerance",
-              file=sys.stderr)
+    label = Path(case.path).stem
+    say = _stage(None if quiet else label)
+    with _printed_warnings():
+        solution = copperpath.solve(case, frequencies=freqs or None, stage=say,
+                                    progress=None if quiet else _progress(label))
     say("writing maps, exports and report")
-    summary = write_outputs(case, mesh, system, result, out, timing=timing) if write else None
+    summary = solution.write(out) if write else None
     say(None)
-    return result, mesh, system, summary
+    return solution, summary
 
 
 def _cmd_solve(args):
-    from solver.outputs import format_table
+    from copperpath.solver.output.outputs import format_table
 
-    if args.freq and not all(np.isfinite(f) and f >= 0 for f in args.freq):
+    if args.freq and not all(math.isfinite(f) and f >= 0 for f in args.freq):
         raise InputError(f"--freq: frequencies must be finite and >= 0 Hz, got {args.freq}")
     case = _load(args.case)
     out = _out_dir(args, args.case)
-    result, mesh, system, summary = run_case(case, out, freqs=sorted(set(args.freq or [])))
-    print(format_table(case, result, summary))
+    solution, summary = run_case(case, out, freqs=sorted(set(args.freq or [])))
+    print(format_table(case, solution.result, summary))
     print(f"wrote {out}/")
     return 0
 
@@ -125,14 +139,14 @@ def _cmd_solve(args):
 def _cmd_inspect(args):
     case = _load(args.case)
 
-    from geometry.meshing import triangulate
-    from solver.inspect import write_inspect
+    from copperpath.geometry.meshing import triangulate
+    from copperpath.solver.output.inspect import write_inspect
 
     out = _out_dir(args, args.case)
     mesh = triangulate(case.layout, case.mesh)
     info = write_inspect(case.layout, mesh, out, unit_scale=case.unit_scale, unit=case.unit,
                          title=case.title, ports=case.ports)
-    from solver.outputs import format_inspect
+    from copperpath.solver.output.outputs import format_inspect
     print(format_inspect(case, info))
     print(f"wrote {out}/")
     return 0
@@ -141,12 +155,13 @@ def _cmd_inspect(args):
 def _side_by_side(out, solved, comparison):
     """Current-density maps of the compared port, one panel per case, one colour scale, on every
     layer that the port's plus terminal or any case's copper uses; returns (path, caption) pairs."""
-    from solver import post
-    from solver.maps import map_frequencies, safe_name
-    from solver.plot import format_frequency, side_by_side_map
+    from copperpath.solver.analysis import post
+    from copperpath.solver.output.maps import map_frequencies, safe_name
+    from copperpath.solver.output.plot import format_frequency, side_by_side_map
 
     panels, layers, freq = [], [], None
-    for case, mesh, system, result in solved:
+    for sol in solved:
+        case, mesh, system, result = sol.case, sol.mesh, sol.system, sol.result
         k = list(result.ports).index(comparison.port)
         _, fmap, _, _ = map_frequencies(mesh, case, result)
         fi = fmap if fmap is not None else 0
@@ -173,22 +188,23 @@ def _side_by_side(out, solved, comparison):
 
 def compare_cases(case_paths, out, *, port=None, quiet=False):
     """Solve each case into ``out/<case name>/`` and compare them; returns the comparison."""
-    from solver.compare import compare, comparison_sections, format_comparison
-    from solver.report import write_comparison_report
+    from copperpath.solver.analysis.compare import resolve_port
+    from copperpath.solver.output.comparison import comparison_sections, format_comparison
+    from copperpath.solver.output.report import write_comparison_report
 
     cases = [_load(p, named=True) for p in case_paths]
     stems = [Path(c.path).stem for c in cases]
     if len(set(stems)) != len(stems):
         raise InputError("compare: two cases share a file name; their outputs would overwrite "
                          "each other (rename one)")
-    solved, triples = [], []
+    port = resolve_port(cases, port)            # a missing port is reported before any solve
+    solved = []
     for case in cases:
         if not quiet:
             print(f"solving {Path(case.path).name} ...", flush=True)
-        result, mesh, system, summary = run_case(case, Path(out) / Path(case.path).stem, quiet=quiet)
-        solved.append((case, mesh, system, result))
-        triples.append((case, result, summary))
-    comparison = compare(triples, port=port)
+        solution, _ = run_case(case, Path(out) / Path(case.path).stem, quiet=quiet)
+        solved.append(solution)
+    comparison = copperpath.compare(solved, port=port)
     text = format_comparison(comparison)
     images = _side_by_side(out, solved, comparison)
     write_comparison_report(out, f"Layout variants compared on port {comparison.port}",
@@ -235,11 +251,13 @@ def build_parser():
         prog="copperpath",
         description="Frequency-dependent R and L of PCB copper between named terminals "
                     "(quasi-static PEEC on triangle meshes).")
+    parser.add_argument("--version", action="version", version=f"copperpath {copperpath.__version__}")
     sub = parser.add_subparsers(dest="command", required=True)
     p = sub.add_parser("solve", help="mesh, solve and report one case")
     p.add_argument("case", help="case file (TOML)")
     p.add_argument("--out", help="output folder (default: out/<case name>)")
-    p.add_argument("--freq", type=float, nargs="+", metavar="F", help="frequencies in Hz (replace the sweep)")
+    p.add_argument("--freq", type=parse_frequency, nargs="+", metavar="F",
+                   help="frequencies (replace the sweep): Hz, or with a prefix such as 1MHz or 250k")
     p.add_argument("--jobs", type=int, default=None, metavar="N", help="worker threads (default: all cores)")
     p.set_defaults(func=_cmd_solve)
     p = sub.add_parser("inspect", help="check geometry, connectivity and mesh; pictures and size estimate")

@@ -1,7 +1,7 @@
 """Small hand-made meshes with known topology, independent of the mesher."""
 import numpy as np
 
-from geometry.mesh import Mesh
+from copperpath.geometry.mesh import Mesh
 
 
 def grid_mesh(nx, ny, lx, ly, *, layers=1, regions=None, drop=None):

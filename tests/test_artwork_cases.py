@@ -16,9 +16,9 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from geometry.case import DEFAULT_PLATING, load_case
-from geometry.model import MeshOptions
-from solver.cli import main
+from copperpath.geometry.case import DEFAULT_PLATING, load_case
+from copperpath.geometry.model import MeshOptions
+from copperpath.solver.cli import main
 from tests.bad_cases import GOOD, L2, write_case
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -90,7 +90,7 @@ def test_layers_match_the_drawn_case(fab_case, drawn_case):
 
 def test_bottom_layer_area_from_the_board_dimensions(fab_case):
     # window 19 mm x 15 mm of solid pour, less the 1.5 mm x 8.5 mm slot, less 12 drill holes
-    # (0.3 mm, each a regular octagon inscribed in its circle: geometry.layout.drill_hole)
+    # (0.3 mm, each a regular octagon inscribed in its circle: copperpath.geometry.layout.drill_hole)
     expected = (19.0 * 15.0 - 1.5 * 8.5) * MM ** 2 - 12 * _polygon_disk_area(0.15 * MM, 8)
     assert fab_case.layout.copper["L2"].area == pytest.approx(expected, rel=1e-6)
     x0, y0, x1, y1 = fab_case.layout.copper["L2"].bounds
@@ -180,9 +180,9 @@ def test_cli_prints_the_notes(tmp_path, capsys):
 
 # ----------------------------------------------------------------------------- end to end
 def _loop_inductance(case):
-    from geometry.meshing import triangulate
-    from solver.sweep import solve
-    from solver.system import assemble
+    from copperpath.geometry.meshing import triangulate
+    from copperpath.solver.solve.sweep import solve
+    from copperpath.solver.solve.system import assemble
 
     freqs = np.array([0.0, 1e6])
     mesh = triangulate(case.layout, MeshOptions(max_edge=2.0 * MM, min_edge=0.5 * MM))

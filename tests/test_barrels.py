@@ -4,7 +4,7 @@ import math
 import pytest
 from scipy import integrate
 
-from solver.barrels import barrel_mutual_inductance, barrel_resistance, barrel_self_inductance
+from copperpath.solver.elements.barrels import barrel_mutual_inductance, barrel_resistance, barrel_self_inductance
 from tests.validation.references import (MU0, grover_filament_mutual,
                                          grover_filament_mutual_offset)
 

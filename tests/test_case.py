@@ -1,4 +1,4 @@
-"""Tests of geometry.case: the bad-case table, good-path reading, variants and warnings."""
+"""Tests of copperpath.geometry.case: the bad-case table, good-path reading, variants and warnings."""
 from __future__ import annotations
 
 import math
@@ -7,8 +7,8 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from geometry.case import DEFAULT_PLATING, load_case, quasi_static_limit
-from geometry.errors import InputError
+from copperpath.geometry.case import DEFAULT_PLATING, load_case, quasi_static_limit
+from copperpath.geometry.errors import InputError
 from tests.bad_cases import BAD_CASES, GOOD, L2, write_case
 
 ROOT = Path(__file__).resolve().parents[1]

@@ -5,10 +5,10 @@ import numpy as np
 import pytest
 from scipy.optimize import brentq
 
-from geometry.errors import InputError
-from geometry.model import CircuitOptions
-from solver.circuit import CAUTION, FORMULAS, estimates
-from solver.result import Result
+from copperpath.geometry.errors import InputError
+from copperpath.geometry.model import CircuitOptions
+from copperpath.solver.analysis.circuit import CAUTION, FORMULAS, estimates
+from copperpath.solver.solve.result import Result
 
 
 def loop_result(ell_hf=50e-9, r_hf=0.1, ports=("loop",)):

@@ -1,7 +1,7 @@
 """The command line: exit status and messages."""
 import pytest
 
-from solver.cli import main
+from copperpath.solver.cli import main
 from tests.bad_cases import BAD_CASES, GOOD, write_case
 
 
@@ -39,11 +39,11 @@ def test_negative_frequency_on_the_command_line(tmp_path, capsys):
 def test_memory_estimate_refuses_a_mesh_that_does_not_fit():
     import pytest as _pytest
 
-    from geometry import gallery
-    from geometry.errors import InputError
-    from geometry.meshing import triangulate
-    from geometry.model import MeshOptions, Port
-    from solver.system import assemble
+    from copperpath.geometry import gallery
+    from copperpath.geometry.errors import InputError
+    from copperpath.geometry.meshing import triangulate
+    from copperpath.geometry.model import MeshOptions, Port
+    from copperpath.solver.solve.system import assemble
 
     lay = gallery.strip(10e-3, 1e-3)
     mesh = triangulate(lay, MeshOptions(0.5e-3, 0.1e-3))

@@ -1,4 +1,4 @@
-"""Layout variants side by side (solver.compare) and the bundled buck hot-loop demo cases."""
+"""Layout variants side by side (copperpath.solver.analysis.compare) and the bundled buck hot-loop demo cases."""
 import math
 from dataclasses import replace
 from pathlib import Path
@@ -7,11 +7,12 @@ from types import SimpleNamespace
 import numpy as np
 import pytest
 
-from geometry.case import load_case
-from geometry.errors import InputError
-from geometry.model import CircuitOptions, MeshOptions
-from solver.compare import compare, comparison_sections, format_comparison, resolve_port, verdict
-from solver.result import Result
+from copperpath.geometry.case import load_case
+from copperpath.geometry.errors import InputError
+from copperpath.geometry.model import CircuitOptions, MeshOptions
+from copperpath.solver.analysis.compare import compare, resolve_port
+from copperpath.solver.output.comparison import comparison_sections, format_comparison, verdict
+from copperpath.solver.solve.result import Result
 
 CASES = Path(__file__).resolve().parent.parent / "cases"
 DEMO = ("buck_baseline.toml", "buck_cap_near.toml", "buck_pour.toml")
@@ -258,12 +259,8 @@ def test_demo_extends_and_remove_chain(demo_cases):
 # --- physics: the pour variant has the lowest hot-loop inductance ------------------------------
 
 def _solve(cases, freqs=None):
-    from solver.cli import run_case
-    out = []
-    for c in cases:
-        result, _, _, _ = run_case(c, None, freqs=freqs, quiet=True, write=False)
-        out.append((c, result, None))
-    return out
+    import copperpath
+    return [(c, copperpath.solve(c, frequencies=freqs).result, None) for c in cases]
 
 
 COARSE = MeshOptions(max_edge=1.6e-3, min_edge=0.6e-3)

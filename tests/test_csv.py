@@ -4,8 +4,8 @@ import math
 
 import numpy as np
 
-from solver.exports.csv import column_names, write_impedance_csv
-from solver.result import Result
+from copperpath.solver.output.exports.csv import column_names, write_impedance_csv
+from copperpath.solver.solve.result import Result
 
 F = np.array([0.0, 1e3, 1e6, 1e8])
 

@@ -13,8 +13,8 @@ import re
 import numpy as np
 import pytest
 
-from geometry.errors import InputError
-from geometry.formats import excellon, read_drills
+from copperpath.geometry.errors import InputError
+from copperpath.geometry.formats import excellon, read_drills
 
 MM, INCH = 1e-3, 25.4e-3
 

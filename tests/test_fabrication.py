@@ -8,8 +8,8 @@ import zipfile
 
 import pytest
 
-from geometry.errors import InputError
-from geometry.formats import fabrication
+from copperpath.geometry.errors import InputError
+from copperpath.geometry.formats import fabrication
 
 
 def copper(n, side, size, x2_as_comment=False):

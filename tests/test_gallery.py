@@ -1,11 +1,11 @@
-"""Tests of geometry.gallery: the layouts have the stated geometry (exact areas by hand)."""
+"""Tests of copperpath.geometry.gallery: the layouts have the stated geometry (exact areas by hand)."""
 import math
 
 import pytest
 import shapely
 from shapely.geometry import LineString
 
-from geometry import gallery
+from copperpath.geometry import gallery
 
 MM = 1e-3
 

@@ -16,8 +16,8 @@ import numpy as np
 import pytest
 from scipy import integrate
 
-from geometry.errors import InputError
-from geometry.formats import gerber, read_artwork
+from copperpath.geometry.errors import InputError
+from copperpath.geometry.formats import gerber, read_artwork
 
 CHORD_MM = 1e-3   # default chord tolerance, in mm
 HEAD = "%FSLAX36Y36*%\n%MOMM*%\n"

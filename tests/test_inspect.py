@@ -1,13 +1,13 @@
-"""Tests of solver.inspect: inspect.json, per-layer pictures and mesh.vtu."""
+"""Tests of copperpath.solver.output.inspect: inspect.json, per-layer pictures and mesh.vtu."""
 import json
 
 import numpy as np
 import pytest
 
-from geometry import gallery
-from geometry.meshing import triangulate
-from geometry.model import MeshOptions, Port
-from solver.inspect import write_inspect
+from copperpath.geometry import gallery
+from copperpath.geometry.meshing import triangulate
+from copperpath.geometry.model import MeshOptions, Port
+from copperpath.solver.output.inspect import write_inspect
 
 MM = 1e-3
 

@@ -3,7 +3,7 @@ import numpy as np
 import pytest
 from scipy import integrate
 
-from solver.kernels import SWITCH_THICKNESSES, averaged_kernel, radial_integrals
+from copperpath.solver.elements.kernels import SWITCH_THICKNESSES, averaged_kernel, radial_integrals
 
 T = 35e-6
 PAIRS = [((0.0, T), (0.0, T)),                       # same layer

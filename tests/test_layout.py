@@ -1,7 +1,7 @@
-"""Tests of geometry.layout and geometry.connectivity: copper areas from plane geometry.
+"""Tests of copperpath.geometry.layout and copperpath.geometry.connectivity: copper areas from plane geometry.
 
 Areas of rectangles are exact; circles are the inscribed regular n-gons of
-geometry.shapes, whose area (n / 2) r^2 sin(2 pi / n) is checked in tests/test_shapes.py.
+copperpath.geometry.shapes, whose area (n / 2) r^2 sin(2 pi / n) is checked in tests/test_shapes.py.
 """
 import math
 
@@ -9,11 +9,11 @@ import numpy as np
 import pytest
 import shapely
 
-from geometry.connectivity import bodies, floating_islands, islands
-from geometry.errors import InputError
-from geometry.layout import CopperShape, as_multipolygon, build_layout, via_array
-from geometry.model import Layer, Lumped, Terminal, Via
-from geometry.shapes import circle, n_segments, rect
+from copperpath.geometry.connectivity import bodies, floating_islands, islands
+from copperpath.geometry.errors import InputError
+from copperpath.geometry.layout import CopperShape, as_multipolygon, build_layout, via_array
+from copperpath.geometry.model import Layer, Lumped, Terminal, Via
+from copperpath.geometry.shapes import circle, n_segments, rect
 
 MM = 1e-3
 L1 = Layer("L1", 1.565e-3, 35e-6)

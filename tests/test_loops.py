@@ -2,10 +2,10 @@
 import numpy as np
 import pytest
 
-from geometry.errors import InputError
-from geometry.model import Layer, Layout, Lumped, Via
-from solver.loops import loop_basis
-from solver.network import BARREL, LUMPED, build_network
+from copperpath.geometry.errors import InputError
+from copperpath.geometry.model import Layer, Layout, Lumped, Via
+from copperpath.solver.graph.loops import loop_basis
+from copperpath.solver.graph.network import BARREL, LUMPED, build_network
 from tests.helpers import grid_mesh
 
 MM = 1e-3

@@ -3,7 +3,7 @@ import json
 
 import numpy as np
 
-from solver.maps import map_frequencies, safe_name, write_maps
+from copperpath.solver.output.maps import map_frequencies, safe_name, write_maps
 from tests.test_plot import distinct_colours
 from tests.test_post import MM, neck_case
 

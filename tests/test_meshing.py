@@ -1,4 +1,4 @@
-"""Tests of geometry.meshing: conformity, exact areas, quality, regions, size field."""
+"""Tests of copperpath.geometry.meshing: conformity, exact areas, quality, regions, size field."""
 import subprocess
 import sys
 import textwrap
@@ -9,11 +9,11 @@ import pytest
 import shapely
 from shapely.geometry import Point, box
 
-from geometry import gallery
-from geometry.errors import InputError
-from geometry.meshing import (GRID, interior_edges, layer_copper, layout_regions, triangulate,
+from copperpath.geometry import gallery
+from copperpath.geometry.errors import InputError
+from copperpath.geometry.meshing import (GRID, interior_edges, layer_copper, layout_regions, triangulate,
                               via_pad_region)
-from geometry.model import Layer, Layout, MeshOptions, Terminal, Via
+from copperpath.geometry.model import Layer, Layout, MeshOptions, Terminal, Via
 
 MM = 1e-3
 
@@ -189,8 +189,8 @@ def test_duplicate_vertices_do_not_crash():
     # Triangle dies with SIGSEGV on a duplicate vertex used by a segment: run in a child.
     code = textwrap.dedent("""
         import shapely
-        from geometry.model import Layer, Layout, MeshOptions, Terminal
-        from geometry.meshing import triangulate
+        from copperpath.geometry.model import Layer, Layout, MeshOptions, Terminal
+        from copperpath.geometry.meshing import triangulate
         ring = [(0, 0), (0, 0), (1e-3, 0), (1e-3, 0), (1e-3, 1e-3), (1e-3 + 1e-13, 1e-3),
                 (0.5e-3, 1e-3), (0.5e-3, 1e-3 + 1e-13), (0, 1e-3)]
         poly = shapely.Polygon(ring, [[(2e-4, 2e-4), (4e-4, 2e-4), (4e-4, 2e-4), (4e-4, 4e-4)]])

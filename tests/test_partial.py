@@ -4,7 +4,7 @@ from collections import defaultdict
 import numpy as np
 import pytest
 
-from solver.partial import inductance_matrix, resistance_matrix
+from copperpath.solver.elements.partial import inductance_matrix, resistance_matrix
 from tests.validation.references import bar_mutual_inductance, bar_self_inductance
 
 SIGMA = 5.8e7  # S/m, annealed copper (IEC 60028)
@@ -86,8 +86,8 @@ def test_two_strips_mutual(placement):
 def test_irregular_mesh_symmetric_positive_definite():
     import triangle as tr
 
-    poly = dict(vertices=np.array([[0, 0], [4e-3, 0], [4e-3, 1e-3], [2e-3, 3e-3], [0, 2e-3]]),
-                segments=np.array([[0, 1], [1, 2], [2, 3], [3, 4], [4, 0]]))
+    poly = {"vertices": np.array([[0, 0], [4e-3, 0], [4e-3, 1e-3], [2e-3, 3e-3], [0, 2e-3]]),
+                "segments": np.array([[0, 1], [1, 2], [2, 3], [3, 4], [4, 0]])}
     mesh = tr.triangulate(poly, "q30a2e-7")
     pts, tris = mesh["vertices"], mesh["triangles"].astype(np.int64)
     halves, cur = _branches(pts, tris, np.zeros(2))  # interior edges only
@@ -102,8 +102,8 @@ def test_irregular_mesh_symmetric_positive_definite():
 def _irregular(max_area):
     import triangle as tr
 
-    poly = dict(vertices=np.array([[0, 0], [4e-3, 0], [4e-3, 1e-3], [2e-3, 3e-3], [0, 2e-3]]),
-                segments=np.array([[0, 1], [1, 2], [2, 3], [3, 4], [4, 0]]))
+    poly = {"vertices": np.array([[0, 0], [4e-3, 0], [4e-3, 1e-3], [2e-3, 3e-3], [0, 2e-3]]),
+                "segments": np.array([[0, 1], [1, 2], [2, 3], [3, 4], [4, 0]])}
     mesh = tr.triangulate(poly, f"q30a{max_area:.12f}")
     return mesh["vertices"], mesh["triangles"].astype(np.int64)
 
@@ -114,9 +114,9 @@ def test_pair_once_assembly_matches_half_by_half_sum(monkeypatch, max_area, pari
     # every unordered triangle pair is visited exactly once (odd and even triangle counts, the
     # near table and the far loop): the matrix equals the plain sum over all half pairs of
     # pair moments computed here one by one with the same rules
-    from solver import partial
-    from solver.kernels import pair_params
-    from solver.quadrature import far_moments, near_moments, triangle_rule
+    from copperpath.solver.elements import partial
+    from copperpath.solver.elements.kernels import pair_params
+    from copperpath.solver.elements.quadrature import far_moments, near_moments, triangle_rule
 
     monkeypatch.setattr(partial, "NEAR_FACTOR", 100.0 if near == "all" else 0.0)
     monkeypatch.setattr(partial, "FAR_LEVELS", ((np.inf, 6),))
@@ -159,7 +159,7 @@ def test_pair_once_assembly_matches_half_by_half_sum(monkeypatch, max_area, pari
 
 
 def test_colouring_separates_triangles_of_a_branch():
-    from solver.partial import _colour
+    from copperpath.solver.elements.partial import _colour
 
     pts, tris = _irregular(2e-7)
     (hb, ht, _, _), _ = _branches(pts, tris, np.zeros(2))

@@ -2,7 +2,8 @@
 import numpy as np
 import pytest
 
-from solver import plot, post
+from copperpath.solver.output import plot
+from copperpath.solver.analysis import post
 from tests.test_post import neck_case
 
 

@@ -1,20 +1,20 @@
-"""Current density, inductance and loss shares, potentials and bottlenecks (solver.post).
+"""Current density, inductance and loss shares, potentials and bottlenecks (copperpath.solver.analysis.post).
 
 The small layouts here are built with ``tests.helpers.grid_mesh`` (independent of the mesher)
 and solved through the real chain (assemble -> solve). ``neck_case`` and ``detour_case`` are
 also used by the plot, map, VTU and report tests.
 """
 import math
-from functools import lru_cache
+from functools import cache
 from pathlib import Path
 
 import numpy as np
 import pytest
 
-from geometry.model import Case, Layer, Layout, Lumped, Port
-from solver import post
-from solver.sweep import solve
-from solver.system import assemble
+from copperpath.geometry.model import Case, Layer, Layout, Lumped, Port
+from copperpath.solver.analysis import post
+from copperpath.solver.solve.sweep import solve
+from copperpath.solver.solve.system import assemble
 from tests.helpers import grid_mesh
 
 MM = 1e-3
@@ -36,7 +36,7 @@ def _solved(case, mesh):
     return system, solve(system, case.frequencies, title=case.title, keep_currents=True)
 
 
-@lru_cache(maxsize=None)
+@cache
 def neck_case():
     """A 12 x 3 mm strip with a 1 mm wide, 2 mm long neck at x = 5..7 mm (terminals at the ends)."""
     regions = {"terminal:A": lambda l, x, y: x < 0.5 * MM, "terminal:B": lambda l, x, y: x > 11.5 * MM}
@@ -46,7 +46,7 @@ def neck_case():
     return (case, mesh) + _solved(case, mesh)
 
 
-@lru_cache(maxsize=None)
+@cache
 def detour_case():
     """A closely spaced pair of 6 mm stubs (1 mm gap) closed through a 10 x 10 mm detour loop.
 
@@ -66,7 +66,7 @@ def detour_case():
     return (case, mesh) + _solved(case, mesh)
 
 
-@lru_cache(maxsize=None)
+@cache
 def lumped_case():
     """Two 4 x 1 mm strips in a row, joined by a lumped R-L branch (1 mohm, 2 nH) from B to C."""
     regions = {"terminal:A": lambda l, x, y: x < 0.5 * MM,

@@ -2,12 +2,12 @@
 import numpy as np
 import pytest
 
-from geometry import gallery
-from geometry.meshing import triangulate
-from geometry.model import MeshOptions, Port
-from solver import post
-from solver.sweep import solve
-from solver.system import assemble
+from copperpath.geometry import gallery
+from copperpath.geometry.meshing import triangulate
+from copperpath.geometry.model import MeshOptions, Port
+from copperpath.solver.analysis import post
+from copperpath.solver.solve.sweep import solve
+from copperpath.solver.solve.system import assemble
 
 SIGMA = 5.8e7  # S/m, annealed copper (IEC 60028)
 

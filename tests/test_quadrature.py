@@ -2,8 +2,8 @@
 import numpy as np
 import pytest
 
-from solver.kernels import averaged_kernel
-from solver.quadrature import edge_graded_rule, pair_moments, subdivided_rule, triangle_rule
+from copperpath.solver.elements.kernels import averaged_kernel
+from copperpath.solver.elements.quadrature import edge_graded_rule, pair_moments, subdivided_rule, triangle_rule
 
 T = 35e-6
 TA = np.array([[0, 0], [1e-3, 0], [0.3e-3, 0.8e-3]])
@@ -61,14 +61,14 @@ def test_other_layer_near_pair_matches_brute_force():
 
 @pytest.mark.parametrize("tb", [TA, TB], ids=["self", "adjacent"])
 def test_singular_pairs_converge(tb):
-    # production rules for touching pairs (edge-graded 6 x 6, solver.partial's w panels) against a
+    # production rules for touching pairs (edge-graded 6 x 6, copperpath.solver.elements.partial's w panels) against a
     # heavily refined outer rule and finer w panels; the independent check of these pairs is the
     # strip against the exact bar formula (tests/test_partial.py, Hoer & Love 1965)
-    from solver.partial import N_W, W_PANEL
+    from copperpath.solver.elements.partial import N_W, W_PANEL
     z = (0.0, T)
     ref = pair_moments(TA, tb, z, z, degree=6, levels=4, n_w=12, panel=0.7)
-    from solver.quadrature import near_moments, _area  # noqa: F401  (production path below)
-    from solver.kernels import pair_params
+    from copperpath.solver.elements.quadrature import near_moments, _area  # noqa: F401  (production path below)
+    from copperpath.solver.elements.kernels import pair_params
     bary, w = edge_graded_rule(6, 6)
     out = np.empty(6)
     glx, glw = np.polynomial.legendre.leggauss(N_W)

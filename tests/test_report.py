@@ -6,8 +6,8 @@ import subprocess
 
 import pytest
 
-from solver.maps import write_maps
-from solver.report import CAUTION, write_report
+from copperpath.solver.output.maps import write_maps
+from copperpath.solver.output.report import CAUTION, write_report
 from tests.test_plot import distinct_colours
 from tests.test_post import lumped_case
 

@@ -1,4 +1,4 @@
-"""Tests of geometry.shapes: areas against closed forms of plane geometry.
+"""Tests of copperpath.geometry.shapes: areas against closed forms of plane geometry.
 
 References: the area of a regular n-gon inscribed in a circle of radius r is
 (n / 2) r^2 sin(2 pi / n) (Euclid, Elements IV; any geometry handbook, e.g. Bronshtein and
@@ -13,7 +13,7 @@ import pytest
 import shapely
 from shapely.geometry import LineString, Point
 
-from geometry.shapes import (CHORD_TOL, MAX_SEGMENTS, MIN_SEGMENTS, circle, n_segments,
+from copperpath.geometry.shapes import (CHORD_TOL, MAX_SEGMENTS, MIN_SEGMENTS, circle, n_segments,
                              polygon, polygon_problem, rect, trace)
 
 

@@ -6,8 +6,8 @@ import subprocess
 import numpy as np
 import pytest
 
-from solver.exports.spice import fit, netlist, write_spice
-from solver.result import Result
+from copperpath.solver.output.exports.spice import fit, netlist, write_spice
+from copperpath.solver.solve.result import Result
 
 MU0 = 4e-7 * np.pi
 SIGMA = 5.8e7

@@ -4,8 +4,8 @@ import pytest
 
 skrf = pytest.importorskip("skrf")
 
-from solver.exports.touchstone import s_from_z, write_touchstone  # noqa: E402
-from solver.result import Result  # noqa: E402
+from copperpath.solver.output.exports.touchstone import s_from_z, write_touchstone  # noqa: E402
+from copperpath.solver.solve.result import Result  # noqa: E402
 
 F = np.concatenate([[0.0], np.logspace(3, 8.5, 12)])
 

@@ -1,8 +1,8 @@
-"""Tests of geometry.units against the defined sizes of the units."""
+"""Tests of copperpath.geometry.units against the defined sizes of the units."""
 import numpy as np
 import pytest
 
-from geometry.units import UNITS, to_si, unit_scale
+from copperpath.geometry.units import UNITS, to_si, unit_scale
 
 # Exact definitions: 1 inch = 25.4 mm (international yard and pound agreement, 1959;
 # NIST SP 811, 2008, appendix B), 1 mil = 1/1000 inch, SI prefixes milli and micro.

@@ -2,8 +2,8 @@
 import numpy as np
 import pytest
 
-from solver import post
-from solver.exports.vtu import write_vtu
+from copperpath.solver.analysis import post
+from copperpath.solver.output.exports.vtu import write_vtu
 from tests.test_post import lumped_case, neck_case
 
 

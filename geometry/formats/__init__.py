@@ -11,10 +11,10 @@ from __future__ import annotations
 import io  # noqa: F401 (used by the doctests)
 import re
 
-from geometry.errors import input_error
-from geometry.formats import excellon, gerber
-from geometry.formats.excellon import Drills
-from geometry.formats.gerber import DEFAULT_CHORD, Artwork, load_text
+from copperpath.geometry.errors import input_error
+from copperpath.geometry.formats import excellon, gerber
+from copperpath.geometry.formats.excellon import Drills
+from copperpath.geometry.formats.gerber import DEFAULT_CHORD, Artwork, load_text
 
 __all__ = ["FORMATS", "SUFFIXES", "detect", "read_artwork", "read_drills", "Artwork", "Drills"]
 
@@ -67,12 +67,12 @@ def read_artwork(path_or_buffer, *, chord: float = DEFAULT_CHORD, name: str | No
     ----------
     path_or_buffer : str, os.PathLike or file-like
     chord : float, optional
-        Chord tolerance in metres (see :mod:`geometry.formats.gerber`).
+        Chord tolerance in metres (see :mod:`copperpath.geometry.formats.gerber`).
     name : str, optional
         Name used in messages.
     clip : tuple of float, optional
         ``(x0, y0, x1, y1)`` in metres: only the image inside this rectangle (see
-        :func:`geometry.formats.gerber.read`).
+        :func:`copperpath.geometry.formats.gerber.read`).
 
     Returns
     -------

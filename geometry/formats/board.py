@@ -1,8 +1,8 @@
 """From fabrication data to layout inputs: artwork copper per layer and plated holes as vias.
 
-The case reader (:mod:`geometry.case`) calls these functions for a layer's ``artwork``, a
+The case reader (:mod:`copperpath.geometry.case`) calls these functions for a layer's ``artwork``, a
 ``[[drill]]`` table and ``[fabrication] source``; they return plain inputs for
-:func:`geometry.layout.build_layout` plus one-line *notes* (what went where, what was
+:func:`copperpath.geometry.layout.build_layout` plus one-line *notes* (what went where, what was
 skipped) and *warnings* (findings the user should look at).
 
 Decisions:
@@ -11,7 +11,7 @@ Decisions:
   span numbers ``a``-``b`` refer to the ``n``-th layer of the stackup from the top (highest
   z). A span reaching past the stackup is clipped to it (with a note); a drill file whose
   span keeps fewer than two layers is skipped (with a note).
-- Every plated hole becomes a :class:`~geometry.model.Via` with the hole diameter as
+- Every plated hole becomes a :class:`~copperpath.geometry.model.Via` with the hole diameter as
   ``drill``, the given plating and ``pad = drill + annulus``. Non-plated holes and slots
   carry no current between layers: they are skipped with a warning.
 - A plated slot becomes one via at the slot's centre with the slot's width as ``drill``,
@@ -26,7 +26,7 @@ from pathlib import Path
 
 import numpy as np
 
-from geometry.model import Via
+from copperpath.geometry.model import Via
 
 __all__ = ["BoardInputs", "span_layers", "file_span", "drill_vias", "fabrication_inputs"]
 
@@ -39,7 +39,7 @@ class BoardInputs:
     ----------
     artwork : dict of str to shapely geometry
         Copper per layer name, in metres.
-    vias : tuple of geometry.model.Via
+    vias : tuple of copperpath.geometry.model.Via
     notes : tuple of str
         What went where and what was skipped, one line each.
     warnings : tuple of str
@@ -83,7 +83,7 @@ def file_span(span, names, label):
     Parameters
     ----------
     span : tuple of int or None
-        ``(a, b)`` from the file (see :attr:`geometry.formats.excellon.Drills.span`);
+        ``(a, b)`` from the file (see :attr:`copperpath.geometry.formats.excellon.Drills.span`);
         None: all layers.
     names : sequence of str
         Layer names from the top down.
@@ -123,7 +123,7 @@ def drill_vias(drills, span, *, plating, annulus, prefix, label, scale=1e-3, uni
 
     Parameters
     ----------
-    drills : geometry.formats.excellon.Drills
+    drills : copperpath.geometry.formats.excellon.Drills
         The holes, in metres.
     span : tuple of str
         Layers every via passes, top down (at least two).
@@ -148,7 +148,7 @@ def drill_vias(drills, span, *, plating, annulus, prefix, label, scale=1e-3, uni
     Examples
     --------
     >>> import io
-    >>> from geometry.formats import read_drills
+    >>> from copperpath.geometry.formats import read_drills
     >>> d = read_drills(io.StringIO("M48\\nMETRIC\\nT1C0.3\\n%\\nT1\\nX1.0Y2.0\\nX3.0Y2.0\\nM30\\n"), name="b.drl")
     >>> vias, note, warnings = drill_vias(d, ("L1", "L2"), plating=25e-6, annulus=0.3e-3,
     ...                                   prefix="b.drl", label="b.drl")
@@ -200,7 +200,7 @@ def fabrication_inputs(fab, names, *, own_artwork=(), drill_files=(), plating, a
 
     Parameters
     ----------
-    fab : geometry.formats.fabrication.Fabrication
+    fab : copperpath.geometry.formats.fabrication.Fabrication
         The scan of the folder or archive.
     names : sequence of str
         Layer names from the top (highest z) down; copper layer ``n`` goes to ``names[n-1]``.
@@ -222,7 +222,7 @@ def fabrication_inputs(fab, names, *, own_artwork=(), drill_files=(), plating, a
 
     Raises
     ------
-    geometry.errors.InputError
+    copperpath.geometry.errors.InputError
         From the readers, naming the file and line.
     """
     notes = [f"fabrication: {line}" for line in fab.lines]

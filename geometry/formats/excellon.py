@@ -41,8 +41,8 @@ from typing import NamedTuple
 
 import numpy as np
 
-from geometry.errors import input_error
-from geometry.formats.gerber import load_text
+from copperpath.geometry.errors import input_error
+from copperpath.geometry.formats.gerber import load_text
 
 __all__ = ["Drills", "Slot", "read", "read_text"]
 
@@ -122,7 +122,7 @@ def read(path_or_buffer, *, name: str | None = None) -> Drills:
 
     Raises
     ------
-    geometry.errors.InputError
+    copperpath.geometry.errors.InputError
         One line ``"<file>:<line>: <what was wrong, what was expected>"``.
 
     Examples

@@ -4,7 +4,7 @@ Copper layers are identified by the X2 file attribute ``.FileFunction,Copper,L<n
 (written as ``%TF...*%`` or as a ``G04 #@! TF...*`` comment). Drill files are Excellon files;
 their span and plating come from ``; #@! TF.FileFunction,Plated|NonPlated,<a>,<b>,...``,
 plating otherwise from the file name (``NPTH`` means non-plated, see
-:mod:`geometry.formats.excellon`); a drill file without a span joins all layers.
+:mod:`copperpath.geometry.formats.excellon`); a drill file without a span joins all layers.
 
 Only when no Gerber file of the set carries a copper ``.FileFunction`` are the layers taken
 from file names, using two common conventions (common practice, not a standard):
@@ -30,9 +30,9 @@ import zlib
 from dataclasses import dataclass, field
 from pathlib import Path, PurePosixPath
 
-from geometry.errors import input_error
-from geometry.formats import detect, excellon, gerber
-from geometry.formats.gerber import DEFAULT_CHORD
+from copperpath.geometry.errors import input_error
+from copperpath.geometry.formats import detect, excellon, gerber
+from copperpath.geometry.formats.gerber import DEFAULT_CHORD
 
 __all__ = ["DrillFile", "Fabrication", "scan", "MAX_FILES", "MAX_BYTES"]
 
@@ -66,7 +66,7 @@ class DrillFile:
         Copper layers ``(a, b)`` joined by its holes; None: all layers.
     plated : bool
         From the file attribute or the file name (default True); the plating of each hole
-        is in :attr:`geometry.formats.excellon.Drills.plated`.
+        is in :attr:`copperpath.geometry.formats.excellon.Drills.plated`.
     mixed : bool
         True when the file says ``MixedPlating`` (plating given per tool).
     """
@@ -105,12 +105,12 @@ class Fabrication:
         return io.BytesIO(self.contents[label])
 
     def read_copper(self, layer: int, *, chord: float = DEFAULT_CHORD, clip=None) -> gerber.Artwork:
-        """Read the artwork of copper layer ``layer`` (see :func:`geometry.formats.gerber.read`)."""
+        """Read the artwork of copper layer ``layer`` (see :func:`copperpath.geometry.formats.gerber.read`)."""
         label = self.copper[layer]
         return gerber.read(self.open(label), chord=chord, name=label, clip=clip)
 
     def read_drills(self, drill: DrillFile) -> excellon.Drills:
-        """Read one drill file of the set (see :func:`geometry.formats.excellon.read`)."""
+        """Read one drill file of the set (see :func:`copperpath.geometry.formats.excellon.read`)."""
         return excellon.read(self.open(drill.name), name=drill.name)
 
 
@@ -132,7 +132,7 @@ def scan(source, *, max_files: int = MAX_FILES, max_bytes: int = MAX_BYTES) -> F
 
     Raises
     ------
-    geometry.errors.InputError
+    copperpath.geometry.errors.InputError
         Missing source, unsafe or oversized archive, two files claiming one copper layer.
     """
     path = Path(source)

@@ -21,7 +21,7 @@ section numbers and rules cited from memory) that layout tools emit for copper:
   ``%ASAXBY``, ``%MIA0B0``, ``%OFA0B0``, ``%SFA1B1``, ``%IN``, ``%LN``. Coordinate-only
   words repeat the previous D01/D02/D03.
 
-Not supported (an :class:`~geometry.errors.InputError` names the line): incremental
+Not supported (an :class:`~copperpath.geometry.errors.InputError` names the line): incremental
 coordinates (``FS..I``, G91), negative image (``%IPNEG``), image rotation, mirroring,
 offset or scaling other than the identity, draws with macro or block apertures.
 
@@ -48,8 +48,8 @@ import shapely
 from shapely.errors import GEOSException
 from shapely.geometry import MultiPolygon
 
-from geometry.errors import input_error
-from geometry.formats.gerber_macros import (MacroError, chord_count, compile_macro, disk_polygon,
+from copperpath.geometry.errors import input_error
+from copperpath.geometry.formats.gerber_macros import (MacroError, chord_count, compile_macro, disk_polygon,
                                             evaluate_macro, rect_polygon, regular_ngon,
                                             segments_per_quarter)
 
@@ -129,7 +129,7 @@ def read(path_or_buffer, *, chord: float = DEFAULT_CHORD, name: str | None = Non
 
     Raises
     ------
-    geometry.errors.InputError
+    copperpath.geometry.errors.InputError
         One line ``"<file>:<line>: <what was wrong, what was expected>"``.
 
     Examples
@@ -828,7 +828,7 @@ class _Reader:
         self.count_copies(line, nx * ny * sum(len(g) for _, g in ctx.stream))
         offsets = [(ix * dx, iy * dy) for iy in range(ny) for ix in range(nx)]
         if all(dark for dark, _ in ctx.stream):
-            for dark, geoms in ctx.stream:      # one polarity: order of copies does not matter
+            for _dark, geoms in ctx.stream:     # one polarity: order of copies does not matter
                 _append(parent.stream, True, np.concatenate(
                     [_affine(geoms, np.eye(2), np.array(o)) for o in offsets]))
             return

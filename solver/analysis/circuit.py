@@ -19,8 +19,8 @@ from __future__ import annotations
 import math
 from dataclasses import dataclass, field
 
-from geometry.errors import input_error
-from geometry.model import CircuitOptions
+from copperpath.geometry.errors import input_error
+from copperpath.geometry.model import CircuitOptions
 
 CAUTION = (
     "These figures are estimates of the copper's parasitics and of their effect on a simple "
@@ -104,9 +104,9 @@ def estimates(result, options: CircuitOptions, *, source="[circuit]") -> Circuit
 
     Parameters
     ----------
-    result : solver.result.Result
+    result : copperpath.solver.solve.result.Result
         The extracted impedances.
-    options : geometry.model.CircuitOptions
+    options : copperpath.geometry.model.CircuitOptions
         ``port`` (default: the first port), ``di_dt`` in A/s or else ``current`` (A) and
         ``rise_time`` (s) (``di_dt`` wins when both are given), ``output_capacitance`` (F),
         ``input_voltage`` (V).
@@ -119,13 +119,13 @@ def estimates(result, options: CircuitOptions, *, source="[circuit]") -> Circuit
 
     Raises
     ------
-    geometry.errors.InputError
+    copperpath.geometry.errors.InputError
         The port is unknown or a given value is not a positive number.
 
     Examples
     --------
     >>> import numpy as np
-    >>> from solver.result import Result
+    >>> from copperpath.solver.solve.result import Result
     >>> f = np.array([1e8])
     >>> z = (0.01 + 2j * np.pi * f * 50e-9)[:, None, None]
     >>> r = Result("loop", ("loop",), f, z)
@@ -137,8 +137,8 @@ def estimates(result, options: CircuitOptions, *, source="[circuit]") -> Circuit
     di_dt, missing = _di_dt(options, source)
     c_oss = _positive(options.output_capacitance, "output_capacitance", source)
     v_in = _finite(options.input_voltage, "input_voltage", source)
-    est = dict(port=port, frequency_hz=f_used, loop_inductance_h=ell, loop_resistance_ohm=res,
-               di_dt_a_per_s=di_dt)
+    est = {"port": port, "frequency_hz": f_used, "loop_inductance_h": ell, "loop_resistance_ohm": res,
+               "di_dt_a_per_s": di_dt}
     if di_dt is None:
         missing["overshoot_v"] = missing["peak_switch_node_v"] = missing["di_dt_a_per_s"]
     else:

@@ -14,19 +14,17 @@ Choices (the design leaves them open):
   switching edge sees; ties go to the earlier case).
 - **Circuit estimates.** Only for a case whose ``[circuit]`` names the compared port (its
   ``di_dt``, ``C_oss`` and ``V_in`` describe that loop's switch); computed from the result by
-  :func:`solver.circuit.estimates`, i.e. with L and R at the case's highest swept frequency.
+  :func:`copperpath.solver.analysis.circuit.estimates`, i.e. with L and R at the case's highest swept frequency.
 """
 from __future__ import annotations
 
-import html
 import math
-import os
 from dataclasses import dataclass, replace
 
 import numpy as np
 
-from geometry.errors import InputError, input_error
-from solver.circuit import estimates
+from copperpath.geometry.errors import InputError, input_error
+from copperpath.solver.analysis.circuit import estimates
 
 #: Relative tolerance when matching a requested frequency to a swept one.
 FREQ_RTOL = 1e-9
@@ -113,7 +111,7 @@ def resolve_port(cases, port=None):
 
     Parameters
     ----------
-    cases : sequence of geometry.model.Case
+    cases : sequence of copperpath.geometry.model.Case
         The variants, reference first.
     port : str, optional
         Default: the first case's ``[circuit]`` port, else its first port.
@@ -124,7 +122,7 @@ def resolve_port(cases, port=None):
 
     Raises
     ------
-    geometry.errors.InputError
+    copperpath.geometry.errors.InputError
         A case without that port (naming the case file and the port), or no cases.
     """
     cases = list(cases)
@@ -232,7 +230,7 @@ def compare(results, *, port=None, frequencies=None) -> Comparison:
     Parameters
     ----------
     results : sequence of (case, result, summary)
-        ``case`` a :class:`geometry.model.Case`, ``result`` its :class:`solver.result.Result`,
+        ``case`` a :class:`copperpath.geometry.model.Case`, ``result`` its :class:`copperpath.solver.solve.result.Result`,
         ``summary`` the ``result.json`` data (or ``None``). The first is the reference.
     port : str, optional
         Port to compare; default: the first case's ``[circuit]`` port, else its first port.
@@ -246,14 +244,14 @@ def compare(results, *, port=None, frequencies=None) -> Comparison:
 
     Raises
     ------
-    geometry.errors.InputError
+    copperpath.geometry.errors.InputError
         No cases, a case without the port (naming the case file and the port), or a
         frequency not swept by every case.
 
     Examples
     --------
     >>> from types import SimpleNamespace
-    >>> from solver.result import Result
+    >>> from copperpath.solver.solve.result import Result
     >>> f = np.array([0.0, 1e8])
     >>> def loop(ell):  # 10 mohm and ``ell`` henry
     ...     z = (0.01 + 2j * np.pi * f * ell)[:, None, None]
@@ -294,156 +292,3 @@ def compare(results, *, port=None, frequencies=None) -> Comparison:
     top = [c.inductance_h[-1] for c in cases]
     best = int(np.argmin(top))
     return Comparison(port=port, frequencies=chosen, cases=tuple(cases), best=best)
-
-
-# ----------------------------------------------------------------------------- formatting
-def _freq_label(f):
-    if f == 0:
-        return "DC"
-    for scale, prefix in ((1e9, "G"), (1e6, "M"), (1e3, "k")):
-        if f >= scale:
-            return f"{f / scale:g} {prefix}Hz"
-    return f"{f:g} Hz"
-
-
-def _num(value, scale, fmt):
-    if value is None or not math.isfinite(value):
-        return "-"
-    return format(value / scale, fmt)
-
-
-def short_titles(titles):
-    """Split off the part before ``": "`` that all titles share.
-
-    Parameters
-    ----------
-    titles : sequence of str
-
-    Returns
-    -------
-    tuple
-        ``(common, rest)``: the shared head (``""`` when none) and each title without it.
-
-    Examples
-    --------
-    >>> short_titles(["buck: far", "buck: near"])
-    ('buck', ['far', 'near'])
-    >>> short_titles(["C1 far", "C1 near"])
-    ('', ['C1 far', 'C1 near'])
-    """
-    titles = list(titles)
-    cut = os.path.commonprefix(titles).rfind(": ") if len(titles) > 1 else -1
-    rest = [t[cut + 2:] for t in titles]
-    if cut < 0 or not all(r.strip() for r in rest):
-        return "", titles
-    return titles[0][:cut].strip(), rest
-
-
-def _columns(comparison):
-    """Shared title head, header and rows of the comparison table (display units)."""
-    common, names = short_titles([c.title for c in comparison.cases])
-    top = _freq_label(comparison.frequencies[-1])
-    low = comparison.frequencies[0]
-    head = ["case"] + [f"L {_freq_label(f)} (nH)" for f in comparison.frequencies]
-    head += [f"dL {top} (nH)", f"dL {top} (%)", f"R {_freq_label(low)} (mohm)",
-             f"R {top} (mohm)", "overshoot (V)", "ringing (MHz)"]
-    rows = []
-    for name, c in zip(names, comparison.cases):
-        row = [name] + [_num(v, 1e-9, ".3f") for v in c.inductance_h]
-        row += [_num(c.delta_inductance_h[-1], 1e-9, "+.3f"), _num(c.relative_inductance[-1], 0.01, "+.1f"),
-                _num(c.resistance_ohm[0], 1e-3, ".3f"), _num(c.resistance_ohm[-1], 1e-3, ".3f"),
-                _num(c.overshoot_v, 1.0, ".2f"), _num(c.ringing_hz, 1e6, ".1f")]
-        rows.append(row)
-    return common, head, rows
-
-
-def verdict(comparison) -> str:
-    """The one-line conclusion: which case has the lowest inductance, and by how much.
-
-    E.g. ``lowest loop inductance (port 'loop' at 100 MHz): pour (-75 % vs far)``; titles lose
-    the head they all share (see :func:`short_titles`).
-    """
-    _, names = short_titles([c.title for c in comparison.cases])
-    best = comparison.best_case
-    where = f"port '{comparison.port}' at {_freq_label(comparison.frequencies[-1])}"
-    if comparison.best == 0:
-        return f"lowest loop inductance ({where}): {names[0]} (the first case)"
-    pct = _num(best.relative_inductance[-1], 0.01, "+.0f")
-    return f"lowest loop inductance ({where}): {names[comparison.best]} ({pct} % vs {names[0]})"
-
-
-def format_comparison(comparison) -> str:
-    """The comparison as a text table for the terminal.
-
-    One row per case: title, L at each chosen frequency, the change of L at the highest
-    frequency against the first case (nH and %), R at the lowest and highest frequency,
-    switch-node overshoot and ringing frequency (``-`` where the case has no ``[circuit]``),
-    then a line naming the lowest-inductance case.
-
-    Parameters
-    ----------
-    comparison : Comparison
-
-    Returns
-    -------
-    str
-    """
-    common, head, rows = _columns(comparison)
-    widths = [max(len(r[k]) for r in [head] + rows) for k in range(len(head))]
-
-    def line(cells):
-        return "  ".join(c.ljust(w) if k == 0 else c.rjust(w)
-                         for k, (c, w) in enumerate(zip(cells, widths))).rstrip()
-    title = f"{common}: " if common else ""
-    out = [f"{title}port '{comparison.port}', changes against the first case", line(head),
-           line(["-" * w for w in widths])]
-    out += [line(r) for r in rows]
-    out.append(verdict(comparison))
-    return "\n".join(out)
-
-
-def _table(head, rows):
-    """``(html, markdown)`` of a table whose first column is left-aligned."""
-    esc = lambda s: html.escape(str(s), quote=True)  # noqa: E731
-    cls = lambda k: ' class="l"' if k == 0 else ""  # noqa: E731
-    h = ["<table><tr>" + "".join(f"<th{cls(k)}>{esc(c)}</th>" for k, c in enumerate(head)) + "</tr>"]
-    h += ["<tr>" + "".join(f"<td{cls(k)}>{esc(c)}</td>" for k, c in enumerate(r)) + "</tr>" for r in rows]
-    h.append("</table>")
-    md = ["| " + " | ".join(head) + " |", "|" + "|".join(":---" if k == 0 else "---:"
-                                                      for k in range(len(head))) + "|"]
-    md += ["| " + " | ".join(str(c).replace("|", "/") for c in r) + " |" for r in rows]
-    return "\n".join(h), "\n".join(md)
-
-
-def comparison_sections(comparison) -> list:
-    """Report sections of a comparison.
-
-    Parameters
-    ----------
-    comparison : Comparison
-
-    Returns
-    -------
-    list of (str, str, str)
-        ``(title, html, markdown)``: the variant table with its conclusion, and the circuit
-        estimates where any case has them.
-    """
-    common, head, rows = _columns(comparison)
-    h, m = _table(head, rows)
-    note = (f"{common}: " if common else "") + (
-        f"port '{comparison.port}'; L is Im Z / (2 pi f), the DC-limit inductance at DC; changes "
-        f"are against the first case. {verdict(comparison)}.")
-    sections = [("Variant comparison", f"<p>{html.escape(note)}</p>\n{h}", f"{note}\n\n{m}")]
-    circuit = [[row[0], _num(c.overshoot_v, 1.0, ".2f"), _num(c.peak_switch_node_v, 1.0, ".2f"),
-                _num(c.ringing_hz, 1e6, ".1f"), _num(c.damping_ratio, 1.0, ".3f")]
-               for row, c in zip(rows, comparison.cases)
-               if c.overshoot_v is not None or c.ringing_hz is not None]
-    if circuit:
-        h2, m2 = _table(["case", "overshoot (V)", "peak switch node (V)", "ringing (MHz)",
-                         "damping ratio"], circuit)
-        text = ("Series R-L-C estimate of each case's loop with its [circuit] values: overshoot "
-                "L di/dt, ringing 1/(2 pi sqrt(L C_oss)), damping from the copper's resistance "
-                "only. Estimates, not measurements.")
-        sections.append(("Circuit estimates per variant", f"<p>{html.escape(text)}</p>\n{h2}",
-                         f"{text}\n\n{m2}"))
-    return sections

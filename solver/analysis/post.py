@@ -48,12 +48,9 @@ import numpy as np
 import scipy.sparse as sp
 from scipy.sparse.csgraph import connected_components
 
-from solver.network import BARREL, EDGE, LUMPED
+from copperpath.geometry.physics import quasi_static_frequency
+from copperpath.solver.graph.network import BARREL, EDGE, LUMPED
 
-C0 = 299_792_458.0
-"""Speed of light in vacuum, m/s."""
-EPS_R_BOARD = 4.5
-"""Relative permittivity of FR-4 used for the quasi-static limit (common practice)."""
 BOTTLENECK_FRACTION = 0.5
 """Fraction of the positive triangle inductance share that the bottleneck triangles hold."""
 SMOOTHING_PASSES = 2
@@ -219,8 +216,8 @@ def sheet_current_density(mesh, network, currents):
 
     Parameters
     ----------
-    mesh : geometry.mesh.Mesh
-    network : solver.network.Network
+    mesh : copperpath.geometry.mesh.Mesh
+    network : copperpath.solver.graph.network.Network
     currents : ndarray of complex, shape (B,)
         Branch currents in A (e.g. ``result.currents[f, p]``).
 
@@ -240,8 +237,8 @@ def triangle_loss(mesh, network, currents):
 
     Parameters
     ----------
-    mesh : geometry.mesh.Mesh
-    network : solver.network.Network
+    mesh : copperpath.geometry.mesh.Mesh
+    network : copperpath.solver.graph.network.Network
     currents : ndarray of complex, shape (B,)
         Branch currents in A.
 
@@ -265,7 +262,7 @@ def branch_shares(system, currents):
 
     Parameters
     ----------
-    system : solver.system.System
+    system : copperpath.solver.solve.system.System
     currents : ndarray of complex, shape (B,)
         Branch currents for 1 A of port current.
 
@@ -314,9 +311,9 @@ def share_items(mesh, system, layout, lumped, ell, r):
 
     Parameters
     ----------
-    layout : geometry.model.Layout
+    layout : copperpath.geometry.model.Layout
         For via names and positions.
-    lumped : sequence of geometry.model.Lumped
+    lumped : sequence of copperpath.geometry.model.Lumped
     ell, r : ndarray, shape (B,)
         Branch shares from :func:`branch_shares`.
 
@@ -354,14 +351,14 @@ def port_maps(mesh, system, result, *, freq_index, port_index, layout=None, lump
 
     Parameters
     ----------
-    mesh : geometry.mesh.Mesh
-    system : solver.system.System
-    result : solver.result.Result
+    mesh : copperpath.geometry.mesh.Mesh
+    system : copperpath.solver.solve.system.System
+    result : copperpath.solver.solve.result.Result
         Solved with ``keep_currents=True``.
     freq_index, port_index : int
-    layout : geometry.model.Layout, optional
+    layout : copperpath.geometry.model.Layout, optional
         Needed to name and place vias (when the network has barrels).
-    lumped : sequence of geometry.model.Lumped
+    lumped : sequence of copperpath.geometry.model.Lumped
         Needed to name lumped branches.
 
     Returns
@@ -394,12 +391,12 @@ def quasi_static_limit(mesh, layers=()):
 
     ``f_lim = c0 / (10 sqrt(4.5) D)``: the largest dimension ``D`` of the modelled copper (the
     diagonal of the mesh's bounding box, with the stackup height) stays below a tenth of the
-    wavelength in FR-4 (``eps_r = 4.5``). Same rule as :func:`geometry.case.quasi_static_limit`.
+    wavelength in FR-4 (``eps_r = 4.5``). Same rule as :func:`copperpath.geometry.case.quasi_static_limit`.
 
     Parameters
     ----------
-    mesh : geometry.mesh.Mesh
-    layers : sequence of geometry.model.Layer
+    mesh : copperpath.geometry.mesh.Mesh
+    layers : sequence of copperpath.geometry.model.Layer
         Stackup, for the height (optional).
 
     Returns
@@ -412,7 +409,7 @@ def quasi_static_limit(mesh, layers=()):
     span = np.ptp(mesh.points[np.unique(mesh.triangles)], axis=0)
     dz = (max(la.z_top for la in layers) - min(la.z for la in layers)) if layers else 0.0
     d = float(math.sqrt(span[0] ** 2 + span[1] ** 2 + dz**2))
-    return C0 / (10.0 * math.sqrt(EPS_R_BOARD) * d), d
+    return quasi_static_frequency(d), d
 
 
 def map_frequency_index(frequencies, f_limit):
@@ -478,7 +475,7 @@ def find_bottlenecks(mesh, maps, *, fraction=BOTTLENECK_FRACTION, passes=SMOOTHI
 
     Parameters
     ----------
-    mesh : geometry.mesh.Mesh
+    mesh : copperpath.geometry.mesh.Mesh
     maps : PortMaps
     fraction : float
         Share of the positive triangle inductance that the selected triangles hold (0-1).

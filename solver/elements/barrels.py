@@ -6,7 +6,7 @@ distance ``d`` have the mutual inductance (Grover 1946, general form with axial 
 
     M = (mu0/4pi) sum_corners +-[u asinh(u/d) - sqrt(u^2 + d^2)],
 
-which is ``(mu0/4pi) ta tb K(d)`` with the averaged kernel of :mod:`solver.kernels`. A shell is
+which is ``(mu0/4pi) ta tb K(d)`` with the averaged kernel of :mod:`copperpath.solver.elements.kernels`. A shell is
 the ring average of that over the angle ``phi`` between two points, at ``d = 2 r |sin(phi/2)|``
 (equal radii). The ``-|u| ln d`` part of each corner averages in closed form (the mean of
 ``ln|2 r sin(phi/2)|`` is ``ln r``; for coaxial radii ``r1 != r2`` it is ``ln max(r1, r2)``) and
@@ -19,8 +19,8 @@ import math
 
 from scipy import integrate, special
 
-from solver.kernels import averaged_kernel
-from solver.partial import MU0
+from copperpath.solver.elements.kernels import averaged_kernel
+from copperpath.geometry.physics import MU0
 
 _SIGNS = (1.0, -1.0, -1.0, 1.0)
 

@@ -34,7 +34,7 @@ The parts ``-R^3/3`` and ``-R^4/4`` that do not depend on ``u`` drop out of the 
 are subtracted analytically (:func:`radial_p12`) so that the sum does not cancel.
 
 The per-layer-pair constants live in a small float64 array (:func:`pair_params`) so that the
-numba loops of :mod:`solver.quadrature` can call :func:`kernel_value`, :func:`radial_p1` and
+numba loops of :mod:`copperpath.solver.elements.quadrature` can call :func:`kernel_value`, :func:`radial_p1` and
 :func:`radial_p2` on scalars.
 """
 from __future__ import annotations

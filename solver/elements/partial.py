@@ -7,12 +7,12 @@ current is ``J_h(r) = s_h (r - p_h) / (2 A_h)`` (the flux through the edge is 1 
     L_mn = mu0/(4 pi) sum_{h in m} sum_{k in n} int int J_h(r).J_k(r') K(|r - r'|) dS dS'
     R_mn = sum_{h in m, k in n, T_h = T_k} (1/(sigma t)) int_T J_h.J_k dS
 
-with ``K`` the thickness-averaged kernel (:mod:`solver.kernels`). ``mu0 = 4e-7 pi`` H/m, the
+with ``K`` the thickness-averaged kernel (:mod:`copperpath.solver.elements.kernels`). ``mu0 = 4e-7 pi`` H/m, the
 classical defined value (:data:`MU0`); the 2019 SI value differs by 5.5e-10 relative.
 
 Triangle pairs closer than :data:`NEAR_FACTOR` times the larger diameter (distance between
 centroids, counting the layer offset) get the accurate polar quadrature of
-:mod:`solver.quadrature`, with a finer outer rule where the pair shares a vertex or an edge;
+:mod:`copperpath.solver.elements.quadrature`, with a finer outer rule where the pair shares a vertex or an edge;
 farther pairs get product Gauss rules whose degree falls with distance (:data:`FAR_LEVELS`).
 The pair loop runs in numba and visits every unordered triangle pair once, in parallel over
 the triangles of one colour at a time (triangles of one colour carry no common branch, so no two
@@ -27,12 +27,11 @@ import scipy.sparse as sp
 from numba import njit, prange
 from scipy.spatial import cKDTree
 
-from solver.kernels import FASTMATH, N_PAIR_PARAMS, pair_params
-from solver.quadrature import (edge_graded_rule, far_moments, half_pair, near_table,
+from copperpath.geometry.physics import MU0
+from copperpath.solver.elements.kernels import FASTMATH, N_PAIR_PARAMS, pair_params
+from copperpath.solver.elements.quadrature import (edge_graded_rule, far_moments, half_pair, near_table,
                                subdivided_rule, triangle_rule)
 
-#: Vacuum permeability in H/m, the classical defined value 4e-7 pi.
-MU0 = 4e-7 * math.pi
 #: Pairs with centroid distance below this many (larger) triangle diameters are near pairs.
 NEAR_FACTOR = 1.5
 #: Far pairs: (upper distance ratio, Gauss degree on each triangle), nearest first. Single

@@ -20,7 +20,7 @@ on ``Ta`` and, for each outer point ``r``, an exact-in-radius polar integral ove
 (:func:`inner_polar`): ``Tb`` is the signed sum of the three triangles (r, edge); each is
 parametrised by the edge with ``R = h cosh(w)``, ``dtheta = dw / cosh(w)`` (``h`` the distance from
 ``r`` to the edge's line), which is smooth in ``w``; Gauss-Legendre panels in ``w`` and the
-closed-form radial integrals ``P1``, ``P2`` of :mod:`solver.kernels` do the rest. With
+closed-form radial integrals ``P1``, ``P2`` of :mod:`copperpath.solver.elements.kernels` do the rest. With
 ``r' = r + rho u(theta)`` the first moment needs ``P2``.
 """
 from __future__ import annotations
@@ -30,7 +30,7 @@ import math
 import numpy as np
 from numba import njit, prange
 
-from solver.kernels import FASTMATH, kernel_value, radial_p12
+from copperpath.solver.elements.kernels import FASTMATH, kernel_value, radial_p12
 
 # Symmetric rules on the triangle (Dunavant 1985, "High degree efficient symmetrical Gaussian
 # quadrature rules for the triangle", IJNME 21): orbits (a, b, weight) in barycentric
@@ -194,7 +194,7 @@ def inner_polar(px, py, tb, cbx, cby, par, glx, glw, panel):
     cbx, cby : float
         Centroid of ``Tb``.
     par : ndarray
-        Kernel pair parameters (:func:`solver.kernels.pair_params`).
+        Kernel pair parameters (:func:`copperpath.solver.elements.kernels.pair_params`).
     glx, glw : ndarray
         Gauss-Legendre nodes and weights on [-1, 1] for one panel in ``w``.
     panel : float
@@ -309,7 +309,7 @@ def pair_moments(ta, tb, z_a, z_b, *, method="near", degree=6, levels=0, n_w=8, 
     -------
     ndarray, shape (6,)
     """
-    from solver.kernels import pair_params
+    from copperpath.solver.elements.kernels import pair_params
 
     ta = np.ascontiguousarray(ta, dtype=np.float64)
     tb = np.ascontiguousarray(tb, dtype=np.float64)

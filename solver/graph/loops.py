@@ -20,7 +20,7 @@ from dataclasses import dataclass
 import numpy as np
 import scipy.sparse as sp
 
-from geometry.errors import InputError
+from copperpath.geometry.errors import InputError
 
 
 @dataclass(frozen=True, eq=False)
@@ -171,8 +171,8 @@ def loop_basis(mesh, network):
 
     Parameters
     ----------
-    mesh : geometry.mesh.Mesh
-    network : solver.network.Network
+    mesh : copperpath.geometry.mesh.Mesh
+    network : copperpath.solver.graph.network.Network
 
     Returns
     -------

@@ -14,7 +14,7 @@ import numpy as np
 import scipy.sparse as sp
 from scipy.sparse.csgraph import connected_components
 
-from geometry.errors import InputError
+from copperpath.geometry.errors import InputError
 
 EDGE, BARREL, LUMPED = 0, 1, 2
 
@@ -182,10 +182,10 @@ def build_network(mesh, layout, lumped=(), *, f_max=0.0):
 
     Parameters
     ----------
-    mesh : geometry.mesh.Mesh
-    layout : geometry.model.Layout
+    mesh : copperpath.geometry.mesh.Mesh
+    layout : copperpath.geometry.model.Layout
         For the vias and the layers (z, thickness, conductivity, sublayers).
-    lumped : sequence of geometry.model.Lumped
+    lumped : sequence of copperpath.geometry.model.Lumped
     f_max : float
         Highest frequency of the sweep in Hz, for ``sublayers = "auto"``.
 

@@ -12,10 +12,11 @@ from pathlib import Path
 import numpy as np
 import shapely
 
-from geometry.meshing import layer_copper
-from solver.files import atomic_path
-from solver.network import build_network
-from solver.system import estimate_memory
+from copperpath.geometry.meshing import layer_copper
+from copperpath.solver.output.files import atomic_path
+from copperpath.solver.graph.network import build_network
+from copperpath.solver.output.exports.vtu import write_mesh_vtu
+from copperpath.solver.solve.system import estimate_memory
 
 SMALL_ANGLE_DEG = 25.0
 """Triangles with a smaller angle are counted (they come from sharp angles of the artwork)."""
@@ -26,9 +27,9 @@ def write_inspect(layout, mesh, out_dir, *, unit_scale=1e-3, unit="mm", title=""
 
     Parameters
     ----------
-    layout : geometry.model.Layout
-    mesh : geometry.mesh.Mesh
-        The mesh of ``layout`` (:func:`geometry.meshing.triangulate`).
+    layout : copperpath.geometry.model.Layout
+    mesh : copperpath.geometry.mesh.Mesh
+        The mesh of ``layout`` (:func:`copperpath.geometry.meshing.triangulate`).
     out_dir : str or os.PathLike
         Created if missing.
     unit_scale : float
@@ -36,7 +37,7 @@ def write_inspect(layout, mesh, out_dir, *, unit_scale=1e-3, unit="mm", title=""
     unit : str
         Name of the display unit, for axis labels.
     title : str
-    ports : sequence of geometry.model.Port
+    ports : sequence of copperpath.geometry.model.Port
 
     Returns
     -------
@@ -50,7 +51,7 @@ def write_inspect(layout, mesh, out_dir, *, unit_scale=1e-3, unit="mm", title=""
         _write_atomic(out / f"{_file_stem(name)}.png",
                       lambda tmp, i=index: _plot_layer(layout, mesh, i, tmp, unit_scale=unit_scale,
                                                        unit=unit, title=title, ports=ports))
-    _write_atomic(out / "mesh.vtu", lambda tmp: _write_vtu(layout, mesh, tmp))
+    write_mesh_vtu(out / "mesh.vtu", mesh, layout)
     text = json.dumps(info, indent=2)
     _write_atomic(out / "inspect.json", lambda tmp: Path(tmp).write_text(text + "\n"))
     return info
@@ -63,7 +64,7 @@ def inspect_summary(layout, mesh, *, ports=(), title=""):
     sublayer, via-barrel segments), ``mesh.nodes`` the potentials (bulk triangles and
     equipotential regions), ``mesh.loops`` the loop currents of the dense solve, and
     ``dense_memory_bytes`` the peak memory of the dense path
-    (:func:`solver.system.estimate_memory`, one frequency). Lumped branches (a handful) are
+    (:func:`copperpath.solver.solve.system.estimate_memory`, one frequency). Lumped branches (a handful) are
     not counted.
     """
     layers = {}
@@ -108,21 +109,6 @@ def _write_atomic(path, write):
     """Call ``write(tmp)`` on a temporary name beside ``path``, then rename it into place."""
     with atomic_path(path) as tmp:
         write(tmp)
-
-def _write_vtu(layout, mesh, path):
-    """``mesh.vtu``: triangles in 3-D at each layer's mid-plane (metres), cell data ``layer``
-    and ``region`` (-1: bulk copper)."""
-    import meshio
-
-    z_mid = np.array([layout.layer(name).z_mid for name in mesh.layer_names])
-    z = np.zeros(len(mesh.points))
-    z[mesh.triangles.ravel()] = np.repeat(z_mid[mesh.tri_layer], 3)
-    points = np.column_stack([mesh.points, z])
-    vtu = meshio.Mesh(points, [("triangle", mesh.triangles)],
-                      cell_data={"layer": [mesh.tri_layer.astype(np.int32)],
-                                 "region": [mesh.tri_region.astype(np.int32)]})
-    meshio.write(path, vtu, file_format="vtu")
-
 
 def _plot_layer(layout, mesh, index, path, *, unit_scale, unit, title, ports):
     """Picture of one layer: copper, mesh, terminals, vias and port labels."""

@@ -9,7 +9,7 @@
 
 ``<f>`` is ``DC`` or the frequency such as ``1MHz``. The map frequency is the highest swept
 frequency within the quasi-static limit ``c0 / (10 sqrt(4.5) D)``, ``D`` the largest dimension
-of the modelled copper (:func:`solver.post.quasi_static_limit`); where every swept frequency
+of the modelled copper (:func:`copperpath.solver.analysis.post.quasi_static_limit`); where every swept frequency
 lies above it, the lowest one. Bottlenecks are found at the map frequency (at DC when the
 sweep holds DC only).
 """
@@ -19,7 +19,8 @@ import re
 from dataclasses import dataclass
 from pathlib import Path
 
-from solver import plot, post
+from copperpath.solver.output import plot
+from copperpath.solver.analysis import post
 
 TOP_BOTTLENECKS = 5
 """Bottlenecks per port returned for ``result.json`` and the report."""
@@ -86,10 +87,10 @@ def write_maps(out_dir, case, mesh, system, result):
     Parameters
     ----------
     out_dir : str or os.PathLike
-    case : geometry.model.Case
-    mesh : geometry.mesh.Mesh
-    system : solver.system.System
-    result : solver.result.Result
+    case : copperpath.geometry.model.Case
+    mesh : copperpath.geometry.mesh.Mesh
+    system : copperpath.solver.solve.system.System
+    result : copperpath.solver.solve.result.Result
         Solved with ``keep_currents=True`` (without currents only the R(f)/L(f) plots are drawn).
 
     Returns
@@ -118,6 +119,29 @@ def write_maps(out_dir, case, mesh, system, result):
                 bottlenecks += [b.as_dict(case.unit_scale, rank=n + 1) for n, b in enumerate(found)]
             images += _port_maps(folder, case, mesh, maps, found, fi == dc, f_lim, d)
     return images, bottlenecks
+
+
+def rank_bottlenecks(case, mesh, system, result):
+    """The ranked bottlenecks of every port, as :func:`write_maps` returns them, without drawing.
+
+    Returns
+    -------
+    list of dict
+        The top :data:`TOP_BOTTLENECKS` of each port at the map frequency (else DC), JSON-ready.
+    """
+    if result.currents is None:
+        return []
+    dc, fmap, _, _ = map_frequencies(mesh, case, result)
+    rank_at = fmap if fmap is not None else dc
+    if rank_at is None:
+        return []
+    out = []
+    for k in range(len(result.ports)):
+        maps = post.port_maps(mesh, system, result, freq_index=rank_at, port_index=k,
+                              layout=case.layout, lumped=case.lumped)
+        found = post.find_bottlenecks(mesh, maps)[:TOP_BOTTLENECKS]
+        out += [b.as_dict(case.unit_scale, rank=n + 1) for n, b in enumerate(found)]
+    return out
 
 
 def _port_maps(folder, case, mesh, maps, found, is_dc, f_lim, d):

@@ -4,14 +4,15 @@ from __future__ import annotations
 from pathlib import Path
 
 
-from solver.circuit import CAUTION, estimates
-from solver.exports.csv import write_impedance_csv
-from solver.exports.result_json import write_result_json
-from solver.exports.spice import write_spice
-from solver.exports.touchstone import write_touchstone
-from solver.exports.vtu import write_vtu
-from solver.maps import map_frequencies, write_maps
-from solver.report import engineering, write_report
+from copperpath.solver.analysis.circuit import CAUTION, estimates
+from copperpath.solver.output.exports.csv import write_impedance_csv
+from copperpath.solver.output.exports.result_json import write_result_json
+from copperpath.solver.output.exports.spice import write_spice
+from copperpath.solver.output.exports.touchstone import write_touchstone
+from copperpath.solver.output.exports.vtu import write_vtu
+from copperpath.solver.output.maps import map_frequencies, write_maps
+from copperpath.solver.output.formatting import engineering, format_frequency
+from copperpath.solver.output.report import write_report
 
 
 def mesh_stats(mesh, system):
@@ -56,7 +57,8 @@ def write_outputs(case, mesh, system, result, out, *, timing=None, extra_section
                   freq_index=fmap if fmap is not None else dc, port_index=0)
     summary = write_result_json(out / "result.json", result, mesh_stats=mesh_stats(mesh, system),
                                 bottlenecks=bottlenecks,
-                                circuit=estimate.to_dict() if estimate else None, timing=timing)
+                                circuit=estimate.to_dict() if estimate else None, timing=timing,
+                                length_unit=case.unit)
     sections = list(extra_sections)
     if estimate is not None:
         sections.append(circuit_section(estimate))
@@ -142,7 +144,7 @@ def format_table(case, result, summary=None):
         lines.append(f"port {name}  ({case.ports[k].plus} -> {case.ports[k].minus})")
         lines.append(f"  {'frequency':>12}  {'R':>12}  {'L':>12}")
         for i, f in enumerate(result.frequencies):
-            label = "DC" if f == 0 else engineering(f, "Hz")
+            label = format_frequency(f)
             lines.append(f"  {label:>12}  {engineering(r[i, k, k], 'ohm'):>12}  {engineering(ell[i, k, k], 'H'):>12}")
     if summary and summary.get("bottlenecks"):
         lines.append(f"bottlenecks (share of loop L and R; x, y in {case.unit}):")

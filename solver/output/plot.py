@@ -2,7 +2,7 @@
 
 matplotlib is imported inside the functions and drives an Agg canvas through
 :class:`matplotlib.figure.Figure` (no pyplot state, nothing left open). Every file is written
-to a temporary name and renamed (:func:`solver.files.atomic_path`).
+to a temporary name and renamed (:func:`copperpath.solver.output.files.atomic_path`).
 
 Maps are drawn with flat per-triangle colours (``tripcolor``), perceptually uniform colour maps
 (:data:`CMAPS`, never a rainbow), axes in the case's length unit, the copper outline (mesh
@@ -18,8 +18,9 @@ import textwrap
 
 import numpy as np
 
-from solver import post
-from solver.files import atomic_path
+from copperpath.solver.analysis import post
+from copperpath.solver.output.files import atomic_path
+from copperpath.solver.output.formatting import format_frequency
 
 CMAPS = {"current": "magma", "inductance": "cividis", "loss": "inferno", "potential": "viridis"}
 """Colour map of each kind of map (matplotlib names; all perceptually uniform)."""
@@ -32,22 +33,6 @@ ARROW_MIN_FRACTION = 0.03
 DPI = 130
 MIN_RELATIVE_SPAN = 0.02
 """R(f) and L(f) axes span at least this fraction of the largest value (no magnified noise)."""
-
-
-def format_frequency(f, sep=" "):
-    """``0 -> "DC"``, ``1e6 -> "1 MHz"``, ``2.5e3 -> "2.5 kHz"``.
-
-    Examples
-    --------
-    >>> format_frequency(1e6), format_frequency(0), format_frequency(2.5e3, sep="")
-    ('1 MHz', 'DC', '2.5kHz')
-    """
-    if f == 0:
-        return "DC"
-    for scale, prefix in ((1e9, "G"), (1e6, "M"), (1e3, "k"), (1.0, "")):
-        if abs(f) >= scale:
-            return f"{f / scale:.3g}{sep}{prefix}Hz"
-    return f"{f:.3g}{sep}Hz"
 
 
 def _nice_length(span):
@@ -120,7 +105,7 @@ def _decorate(ax, mesh, case, layer_index, tris, points, local, markers, shade):
                 continue
             at = cent[region == r].mean(axis=0)
             ax.text(at[0], at[1], name.split(":", 1)[1], ha="center", va="center", fontsize=8,
-                    zorder=6, bbox=dict(boxstyle="round,pad=0.2", fc="white", ec="#555555", lw=0.5))
+                    zorder=6, bbox={"boxstyle": "round,pad=0.2", "fc": "white", "ec": "#555555", "lw": 0.5})
     ax.add_collection(LineCollection(_boundary_segments(points, local) / scale, colors="black",
                                      linewidths=0.7, zorder=3))
     for via in case.layout.vias:
@@ -130,7 +115,7 @@ def _decorate(ax, mesh, case, layer_index, tris, points, local, markers, shade):
         if layer in b.layers:
             ax.text(b.x / scale, b.y / scale, str(n), ha="center", va="center", fontsize=9,
                     fontweight="bold", color="black", zorder=7,
-                    bbox=dict(boxstyle="circle,pad=0.25", fc="#ffffffdd", ec="#0066cc", lw=1.5))
+                    bbox={"boxstyle": "circle,pad=0.25", "fc": "#ffffffdd", "ec": "#0066cc", "lw": 1.5})
     lo, hi = points.min(axis=0) / scale, points.max(axis=0) / scale
     length = _nice_length(max(hi - lo))
     ax.add_artist(AnchoredSizeBar(ax.transData, length, f"{length:g} {unit}", "lower right",
@@ -165,8 +150,8 @@ def layer_map(path, mesh, case, values, *, layer_index, title, label, cmap, log=
     ----------
     path : str or os.PathLike
         PNG file to write (atomically).
-    mesh : geometry.mesh.Mesh
-    case : geometry.model.Case
+    mesh : copperpath.geometry.mesh.Mesh
+    case : copperpath.geometry.model.Case
         For the unit, the vias and the layer names.
     values : ndarray, shape (M,)
         Display values per mesh triangle (already in display units).
@@ -181,7 +166,7 @@ def layer_map(path, mesh, case, values, *, layer_index, title, label, cmap, log=
         Shade terminal and via-pad triangles grey instead of colouring them.
     vectors : ndarray of complex, shape (M, 2), optional
         Draw the direction of ``Re(vectors)`` as arrows.
-    markers : sequence of solver.post.Bottleneck
+    markers : sequence of copperpath.solver.analysis.post.Bottleneck
         Numbered in order, on their layer.
     note : str, optional
         A line of small text under the axes.
@@ -314,7 +299,7 @@ def impedance_plot(path, result, port_index, *, f_limit=None):
     Parameters
     ----------
     path : str or os.PathLike
-    result : solver.result.Result
+    result : copperpath.solver.solve.result.Result
     port_index : int
     f_limit : float, optional
         Quasi-static limit in Hz, drawn as a vertical line where it falls in the plot.

@@ -15,9 +15,9 @@ import html
 import os
 from pathlib import Path
 
-import numpy as np
 
-from solver.files import write_text
+from copperpath.solver.output.files import write_text
+from copperpath.solver.output.formatting import engineering, format_frequency, table
 
 CAUTION = (
     "copperpath estimates the resistance and inductance of copper from a quasi-static field "
@@ -50,49 +50,20 @@ def _esc(text):
     return html.escape(str(text), quote=True)
 
 
-def engineering(value, unit, digits=4):
-    """``0.0123, "ohm" -> "12.3 mohm"`` (HTML-free text)."""
-    if value is None or not np.isfinite(value):
-        return "-"
-    for scale, prefix in ((1e-12, "p"), (1e-9, "n"), (1e-6, "u"), (1e-3, "m"), (1.0, ""), (1e3, "k"),
-                          (1e6, "M"), (1e9, "G")):
-        if abs(value) < 1000 * scale:
-            return f"{value / scale:.{digits}g} {prefix}{unit}"
-    return f"{value:.{digits}g} {unit}"
-
-
-def _freq(f):
-    return "DC" if f == 0 else engineering(f, "Hz")
-
-
-def _table(head, rows, left=1):
-    """A table as (HTML, Markdown); the first ``left`` columns are left-aligned."""
-    def cls(k):
-        return ' class="l"' if k < left else ""
-    h = ["<table><tr>" + "".join(f"<th{cls(k)}>{_esc(c)}</th>" for k, c in enumerate(head)) + "</tr>"]
-    for row in rows:
-        h.append("<tr>" + "".join(f"<td{cls(k)}>{_esc(c)}</td>" for k, c in enumerate(row)) + "</tr>")
-    h.append("</table>")
-    md = ["| " + " | ".join(head) + " |",
-          "|" + "|".join(":---" if k < left else "---:" for k in range(len(head))) + "|"]
-    md += ["| " + " | ".join(str(c).replace("|", "/") for c in row) + " |" for row in rows]
-    return "\n".join(h), "\n".join(md)
-
-
 def _case_tables(case, summary):
     """Stackup, items and mesh size."""
     u = case.unit
     s = case.unit_scale
     rows = [(la.name, f"{la.z / s:.4g}", f"{la.thickness * 1e6:.3g}", f"{la.conductivity:.4g}",
              str(la.sublayers)) for la in case.layout.layers]
-    parts = [_table(["layer", f"z ({u})", "thickness (um)", "conductivity (S/m)", "sublayers"], rows)]
+    parts = [table(["layer", f"z ({u})", "thickness (um)", "conductivity (S/m)", "sublayers"], rows)]
     items = [("vias", str(len(case.layout.vias))),
              ("terminals", ", ".join(t.name for t in case.layout.terminals) or "-"),
              ("ports", "; ".join(f"{p.name}: {p.plus} -> {p.minus}" for p in case.ports) or "-"),
              ("lumped", "; ".join(f"{x.name} ({x.between[0]}-{x.between[1]}, "
                                   f"{engineering(x.resistance, 'ohm')}, {engineering(x.inductance, 'H')})"
                                   for x in case.lumped) or "-"),
-             ("frequencies", ", ".join(_freq(f) for f in case.frequencies))]
+             ("frequencies", ", ".join(format_frequency(f) for f in case.frequencies))]
     mesh = (summary or {}).get("mesh") or {}
     if mesh:
         items.append(("mesh", ", ".join(f"{v} {k}" for k, v in mesh.items())))
@@ -100,7 +71,7 @@ def _case_tables(case, summary):
     if timing:
         items.append(("time", ", ".join(f"{k} {v:.3g} s" for k, v in timing.items()
                                         if isinstance(v, (int, float)))))
-    parts.append(_table(["item", "value"], items, left=2))
+    parts.append(table(["item", "value"], items, left=2))
     return parts
 
 
@@ -108,9 +79,9 @@ def _rl_tables(case, result):
     out = []
     r, ell = result.resistance, result.inductance
     for k, name in enumerate(result.ports):
-        rows = [(_freq(f), f"{r[i, k, k] * 1e3:.5g}", f"{ell[i, k, k] * 1e9:.5g}")
+        rows = [(format_frequency(f), f"{r[i, k, k] * 1e3:.5g}", f"{ell[i, k, k] * 1e9:.5g}")
                 for i, f in enumerate(result.frequencies)]
-        out.append((f"Port {name}", _table(["frequency", "R (mohm)", "L (nH)"], rows)))
+        out.append((f"Port {name}", table(["frequency", "R (mohm)", "L (nH)"], rows)))
     return out
 
 
@@ -121,8 +92,8 @@ def _bottleneck_table(bottlenecks, unit):
         rows.append((str(b.get("rank", "")), b["port"], b.get("kind", ""), where, b["layer"],
                      f"{b['x']:.4g}", f"{b['y']:.4g}", f"{100 * b['inductance_share']:.1f}",
                      engineering(b.get("inductance_h"), "H", 3), f"{100 * b['resistance_share']:.1f}",
-                     f"{b.get('area', 0.0):.3g}", _freq(b.get("frequency_hz", 0.0))))
-    return _table(["#", "port", "kind", "item", "layer", f"x ({unit})", f"y ({unit})",
+                     f"{b.get('area', 0.0):.3g}", format_frequency(b.get("frequency_hz", 0.0))))
+    return table(["#", "port", "kind", "item", "layer", f"x ({unit})", f"y ({unit})",
                    "L share (%)", "L", "R share (%)", f"area ({unit}^2)", "at"], rows, left=5)
 
 
@@ -150,11 +121,11 @@ def write_report(out_dir, case, result, summary=None, images=(), *, bottlenecks=
     Parameters
     ----------
     out_dir : str or os.PathLike
-    case : geometry.model.Case
-    result : solver.result.Result
+    case : copperpath.geometry.model.Case
+    result : copperpath.solver.solve.result.Result
     summary : dict, optional
         The ``result.json`` data (``mesh``, ``timing_s``, ``bottlenecks``).
-    images : sequence of solver.maps.MapImage or path
+    images : sequence of copperpath.solver.output.maps.MapImage or path
         Pictures, in order; those of kind ``"rl"`` go to the R(f)/L(f) section.
     bottlenecks : sequence of dict, optional
         As in ``result.json``; default ``summary["bottlenecks"]``.

@@ -19,8 +19,8 @@ import scipy.linalg as la
 import scipy.sparse as sp
 import scipy.sparse.linalg as spla
 
-from geometry.errors import InputError
-from solver.result import Result
+from copperpath.geometry.errors import InputError
+from copperpath.solver.solve.result import Result
 
 
 def _potentials(system, drop):
@@ -92,7 +92,7 @@ class _LoopSolver:
         for j in range(b.shape[1]):
             count = [0]
 
-            def tick(_):
+            def tick(_, count=count):
                 count[0] += 1
 
             x[:, j], info = spla.gmres(op, b[:, j], x0=lu.solve(b[:, j]), rtol=self.rtol,
@@ -111,7 +111,7 @@ def solve(system, frequencies, *, title="", keep_currents=True, progress=None,
 
     Parameters
     ----------
-    system : solver.system.System
+    system : copperpath.solver.solve.system.System
     frequencies : array_like
         Hz, ascending, >= 0.
     title : str
@@ -128,7 +128,7 @@ def solve(system, frequencies, *, title="", keep_currents=True, progress=None,
 
     Returns
     -------
-    solver.result.Result
+    copperpath.solver.solve.result.Result
     """
     if method not in ("auto", "dense", "fast"):
         raise ValueError(f"Invalid method {method!r}, should be one of 'auto', 'dense', 'fast'")

@@ -8,12 +8,12 @@ from dataclasses import dataclass, field
 import numpy as np
 import scipy.sparse as sp
 
-from geometry.errors import InputError
-from solver import barrels, partial
-from solver.loops import LoopBasis, loop_basis
-from solver.network import BARREL, EDGE, LUMPED, Network, build_network
+from copperpath.geometry.errors import InputError
+from copperpath.solver.elements import barrels
+from copperpath.solver.elements import partial
+from copperpath.solver.graph.loops import LoopBasis, loop_basis
+from copperpath.solver.graph.network import BARREL, EDGE, LUMPED, Network, build_network
 
-MU0 = 4e-7 * np.pi
 
 
 @dataclass(frozen=True, eq=False)
@@ -28,7 +28,7 @@ class System:
         Partial resistance in ohm.
     L : ndarray, shape (B, B)
         Partial inductance in henry.
-    ports : tuple of geometry.model.Port
+    ports : tuple of copperpath.geometry.model.Port
     port_paths : scipy.sparse.csc_matrix, shape (B, P)
         1 A of each port from plus to minus along the tree.
     port_nodes : ndarray of int64, shape (P, 2)
@@ -121,10 +121,10 @@ def assemble(mesh, layout, ports, lumped=(), *, n_freqs=1, f_max=0.0, memory_lim
 
     Parameters
     ----------
-    mesh : geometry.mesh.Mesh
-    layout : geometry.model.Layout
-    ports : sequence of geometry.model.Port
-    lumped : sequence of geometry.model.Lumped
+    mesh : copperpath.geometry.mesh.Mesh
+    layout : copperpath.geometry.model.Layout
+    ports : sequence of copperpath.geometry.model.Port
+    lumped : sequence of copperpath.geometry.model.Lumped
     n_freqs : int
         Number of frequencies to be solved (for the memory estimate).
     f_max : float

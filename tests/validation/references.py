@@ -13,7 +13,7 @@ import math
 
 import mpmath as mp
 
-MU0 = 4e-7 * math.pi  # classical defined value, as in solver.partial
+MU0 = 4e-7 * math.pi  # classical defined value, as in copperpath.solver.elements.partial
 
 
 def _xlog(x, y, z, r):

@@ -3,10 +3,10 @@ import numpy as np
 import shapely
 from shapely.geometry import box
 
-from geometry.meshing import triangulate
-from geometry.model import Layer, Layout, Lumped, MeshOptions, Port, Terminal
-from solver.sweep import solve
-from solver.system import assemble
+from copperpath.geometry.meshing import triangulate
+from copperpath.geometry.model import Layer, Layout, Lumped, MeshOptions, Port, Terminal
+from copperpath.solver.solve.sweep import solve
+from copperpath.solver.solve.system import assemble
 
 
 def solve_layout(layout, ports, frequencies=(0.0,), *, mesh=MeshOptions(), lumped=()):

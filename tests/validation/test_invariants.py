@@ -6,8 +6,8 @@ import pytest
 import shapely
 from shapely.geometry import Point, box
 
-from geometry import gallery
-from geometry.model import Layer, Layout, MeshOptions, Port
+from copperpath.geometry import gallery
+from copperpath.geometry.model import Layer, Layout, MeshOptions, Port
 from tests.validation.solver_setups import eigen_min, solve_layout
 
 SWEEP = (0.0, 1e4, 1e5, 1e6, 1e7, 1e8)

@@ -6,8 +6,8 @@ import shapely
 from scipy.integrate import quad
 from shapely.geometry import Point
 
-from geometry import gallery
-from geometry.model import Layer, Layout, MeshOptions, Port, Terminal, Via
+from copperpath.geometry import gallery
+from copperpath.geometry.model import Layer, Layout, MeshOptions, Port, Terminal, Via
 from tests.validation.line_formulas import (MU0, microstrip_inductance_per_length,
                                             parallel_plate_inductance_per_length)
 from tests.validation.solver_setups import per_length, shorted_pair, solve_layout

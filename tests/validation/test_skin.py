@@ -17,11 +17,11 @@ import dataclasses
 import numpy as np
 import pytest
 
-from geometry import gallery
-from geometry.case import load_case
-from geometry.meshing import triangulate
-from geometry.model import MeshOptions, Port
-from solver.network import auto_sublayers, build_network, sublayer_bounds
+from copperpath.geometry import gallery
+from copperpath.geometry.case import load_case
+from copperpath.geometry.meshing import triangulate
+from copperpath.geometry.model import MeshOptions, Port
+from copperpath.solver.graph.network import auto_sublayers, build_network, sublayer_bounds
 from tests.bad_cases import GOOD, write_case
 from tests.validation.solver_setups import solve_layout
 
@@ -172,7 +172,7 @@ def graded_strip_mesh(length, width, terminal_length, nx, ny):
     crowding at the strip's edges (part of the physics both models capture) at a fraction of
     the unknowns of a uniformly fine mesh.
     """
-    from geometry.mesh import Mesh
+    from copperpath.geometry.mesh import Mesh
     y = 0.5 * width * (1 - np.cos(np.pi * np.arange(ny + 1) / ny))
     x = np.concatenate([[0.0], np.linspace(terminal_length, length - terminal_length, nx + 1), [length]])
     X, Y = np.meshgrid(x, y, indexing="ij")
@@ -193,8 +193,8 @@ def graded_strip_mesh(length, width, terminal_length, nx, ny):
 
 
 def _copperpath_strip(length, nx, ny=12, n_sub=6):
-    from solver.sweep import solve
-    from solver.system import assemble
+    from copperpath.solver.solve.sweep import solve
+    from copperpath.solver.solve.system import assemble
     lay = with_sublayers(gallery.strip(length, STRIP_W, STRIP_T, terminal_length=TERMINAL), n_sub)
     mesh = graded_strip_mesh(length, STRIP_W, TERMINAL, nx, ny)
     res = solve(assemble(mesh, lay, [Port("p", "A", "B")]), STRIP_FREQS)

@@ -1,8 +1,8 @@
 """Straight strips against exact and published formulas (DC, uniform current)."""
 import pytest
 
-from geometry import gallery
-from geometry.model import MeshOptions, Port
+from copperpath.geometry import gallery
+from copperpath.geometry.model import MeshOptions, Port
 from tests.validation.references import bar_mutual_inductance, bar_self_inductance
 from tests.validation.solver_setups import solve_layout, stacked_strips
 

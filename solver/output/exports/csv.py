@@ -18,7 +18,7 @@ import csv
 import io
 from pathlib import Path
 
-from solver.files import write_text
+from copperpath.solver.output.files import write_text
 
 
 def column_names(ports):
@@ -46,7 +46,7 @@ def write_impedance_csv(path, result):
     ----------
     path : str or os.PathLike
         Target file, conventionally ``OUT/impedance.csv``.
-    result : solver.result.Result
+    result : copperpath.solver.solve.result.Result
 
     Returns
     -------

@@ -5,17 +5,18 @@ import json
 
 import numpy as np
 
-from solver.files import write_text
+from copperpath.solver.output.files import write_text
 
 SCHEMA = "copperpath.result/1"
 
 
-def result_dict(result, *, mesh_stats=None, bottlenecks=(), circuit=None, timing=None):
+def result_dict(result, *, mesh_stats=None, bottlenecks=(), circuit=None, timing=None,
+                length_unit="m"):
     """The result as plain JSON-ready data (SI units, matrices ``[frequency][i][j]``).
 
     Parameters
     ----------
-    result : solver.result.Result
+    result : copperpath.solver.solve.result.Result
     mesh_stats : dict, optional
         ``triangles``, ``edges``, ``unknowns``, ``nodes``.
     bottlenecks : sequence of dict
@@ -24,6 +25,8 @@ def result_dict(result, *, mesh_stats=None, bottlenecks=(), circuit=None, timing
         Circuit estimates.
     timing : dict, optional
         Seconds per stage (``mesh``, ``assemble``, ``solve``).
+    length_unit : str
+        Unit of the lengths in ``bottlenecks`` (the case's ``units``), written as ``length_unit``.
 
     Returns
     -------
@@ -39,6 +42,7 @@ def result_dict(result, *, mesh_stats=None, bottlenecks=(), circuit=None, timing
         "impedance_re_ohm": result.impedance.real.tolist(),
         "impedance_im_ohm": result.impedance.imag.tolist(),
         "mesh": dict(mesh_stats or {}),
+        "length_unit": str(length_unit),
         "bottlenecks": list(bottlenecks),
         "circuit": dict(circuit or {}),
         "timing_s": dict(timing or {}),

@@ -37,7 +37,7 @@ from dataclasses import dataclass
 import numpy as np
 from scipy.optimize import nnls
 
-from solver.files import write_text
+from copperpath.solver.output.files import write_text
 
 
 @dataclass(frozen=True)
@@ -112,7 +112,7 @@ def fit(result, *, name="copper", poles_per_decade=3):
 
     Parameters
     ----------
-    result : solver.result.Result
+    result : copperpath.solver.solve.result.Result
     name : str
         Subcircuit name (characters other than letters, digits and ``_`` become ``_``).
     poles_per_decade : int
@@ -145,7 +145,7 @@ def write_spice(path, result, *, name="copper", poles_per_decade=3):
     path : str or os.PathLike
         Target file, e.g. ``OUT/copper.lib``; include it with ``.include`` and instantiate
         ``X1 <port>_p <port>_m ... <name>``.
-    result : solver.result.Result
+    result : copperpath.solver.solve.result.Result
     name : str
         Subcircuit name.
     poles_per_decade : int

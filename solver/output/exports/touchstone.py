@@ -20,7 +20,7 @@ from pathlib import Path
 
 import numpy as np
 
-from solver.files import write_text
+from copperpath.solver.output.files import write_text
 
 PARAMETERS = ("Z", "S")
 
@@ -57,7 +57,7 @@ def write_touchstone(path, result, *, parameter="Z", reference_ohm=50.0):
     path : str or os.PathLike
         Target file; its suffix must be ``.s<P>p`` with ``P`` the number of ports
         (e.g. ``loop.s1p``), as readers infer the port count from it.
-    result : solver.result.Result
+    result : copperpath.solver.solve.result.Result
     parameter : {"Z", "S"}
         ``"Z"``: the impedance matrix, normalized to ``reference_ohm`` as version 1 requires.
         ``"S"``: scattering parameters computed from Z with ``reference_ohm`` at every port.

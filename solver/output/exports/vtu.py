@@ -26,8 +26,8 @@ from pathlib import Path
 
 import numpy as np
 
-from solver.files import atomic_path
-from solver.post import port_maps
+from copperpath.solver.output.files import atomic_path
+from copperpath.solver.analysis.post import port_maps
 
 
 def write_vtu(path, mesh, system, result, case, *, freq_index, port_index):
@@ -37,12 +37,12 @@ def write_vtu(path, mesh, system, result, case, *, freq_index, port_index):
     ----------
     path : str or os.PathLike
         Target file (``.vtu``), written atomically.
-    mesh : geometry.mesh.Mesh
-    system : solver.system.System
+    mesh : copperpath.geometry.mesh.Mesh
+    system : copperpath.solver.solve.system.System
         The assembled system (its network and matrices give the shares).
-    result : solver.result.Result
+    result : copperpath.solver.solve.result.Result
         Solved with ``keep_currents=True``.
-    case : geometry.model.Case
+    case : copperpath.geometry.model.Case
         Stackup (layer mid-planes), vias and lumped branches.
     freq_index, port_index : int
 
@@ -50,14 +50,8 @@ def write_vtu(path, mesh, system, result, case, *, freq_index, port_index):
     -------
     pathlib.Path
     """
-    import meshio
-
     maps = port_maps(mesh, system, result, freq_index=freq_index, port_index=port_index,
                      layout=case.layout, lumped=case.lumped)
-    z_mid = np.array([case.layout.layer(name).z_mid for name in mesh.layer_names])
-    z = np.zeros(len(mesh.points))
-    z[mesh.triangles.ravel()] = np.repeat(z_mid[mesh.tri_layer], 3)
-    points = np.column_stack([mesh.points, z])
     j = maps.current_density
     zeros = np.zeros((len(j), 1))
     area = mesh.areas
@@ -69,11 +63,38 @@ def write_vtu(path, mesh, system, result, case, *, freq_index, port_index):
         "loss_share": maps.resistance_share / area,
         "potential_re": maps.potential.real,
         "potential_abs": np.abs(maps.potential),
-        "layer": mesh.tri_layer.astype(np.int32),
-        "region": mesh.tri_region.astype(np.int32),
     }
+    return write_mesh_vtu(path, mesh, case.layout, cell_data)
+
+
+def write_mesh_vtu(path, mesh, layout, cell_data=None):
+    """Write the mesh in 3-D (each layer at its copper mid-plane, metres) with the cell data
+    ``layer``, ``region`` (-1: bulk copper) and ``cell_data``; the one VTU writer of the package.
+
+    Parameters
+    ----------
+    path : str or os.PathLike
+        Target file (``.vtu``), written atomically.
+    mesh : copperpath.geometry.mesh.Mesh
+    layout : copperpath.geometry.model.Layout
+        Stackup, for the layer elevations.
+    cell_data : dict of str to ndarray, optional
+        Per-triangle values, shape (M,) or (M, 3).
+
+    Returns
+    -------
+    pathlib.Path
+    """
+    import meshio
+
+    z_mid = np.array([layout.layer(name).z_mid for name in mesh.layer_names])
+    z = np.zeros(len(mesh.points))
+    z[mesh.triangles.ravel()] = np.repeat(z_mid[mesh.tri_layer], 3)
+    points = np.column_stack([mesh.points, z])
+    data = {**(cell_data or {}), "layer": mesh.tri_layer.astype(np.int32),
+            "region": mesh.tri_region.astype(np.int32)}
     out = meshio.Mesh(points, [("triangle", mesh.triangles)],
-                      cell_data={k: [np.ascontiguousarray(v)] for k, v in cell_data.items()})
+                      cell_data={k: [np.ascontiguousarray(v)] for k, v in data.items()})
     path = Path(path)
     with atomic_path(path) as tmp:
         meshio.write(tmp, out, file_format="vtu")

@@ -1,0 +1,66 @@
+"""How numbers, frequencies and tables are shown: the one formatter of the package's text,
+terminal tables and reports."""
+from __future__ import annotations
+
+import html
+import math
+
+_PREFIXES = ((1e-12, "p"), (1e-9, "n"), (1e-6, "u"), (1e-3, "m"), (1.0, ""), (1e3, "k"),
+             (1e6, "M"), (1e9, "G"))
+
+
+def engineering(value, unit, digits=4):
+    """A value with an SI prefix; ``-`` for ``None`` or a non-finite value.
+
+    Examples
+    --------
+    >>> engineering(0.0123, "ohm"), engineering(2.69e-9, "H", 3), engineering(None, "V")
+    ('12.3 mohm', '2.69 nH', '-')
+    """
+    if value is None or not math.isfinite(value):
+        return "-"
+    for scale, prefix in _PREFIXES:
+        if abs(value) < 1000 * scale:
+            return f"{value / scale:.{digits}g} {prefix}{unit}"
+    return f"{value:.{digits}g} {unit}"
+
+
+def format_frequency(f, sep=" "):
+    """``0 -> "DC"``, ``1e6 -> "1 MHz"``, ``2.5e3 -> "2.5 kHz"`` (three significant digits).
+
+    Examples
+    --------
+    >>> format_frequency(1e6), format_frequency(0), format_frequency(2.5e3, sep="")
+    ('1 MHz', 'DC', '2.5kHz')
+    """
+    if f == 0:
+        return "DC"
+    for scale, prefix in ((1e9, "G"), (1e6, "M"), (1e3, "k"), (1.0, "")):
+        if abs(f) >= scale:
+            return f"{f / scale:.3g}{sep}{prefix}Hz"
+    return f"{f:.3g}{sep}Hz"
+
+
+def table(head, rows, left=1):
+    """A table as ``(html, markdown)``; the first ``left`` columns are left-aligned.
+
+    Examples
+    --------
+    >>> h, md = table(["case", "L (nH)"], [["a|b", "1.0"]])
+    >>> md.splitlines()[2]
+    '| a/b | 1.0 |'
+    """
+    def cls(k):
+        return ' class="l"' if k < left else ""
+
+    def esc(text):
+        return html.escape(str(text), quote=True)
+
+    h = ["<table><tr>" + "".join(f"<th{cls(k)}>{esc(c)}</th>" for k, c in enumerate(head)) + "</tr>"]
+    h += ["<tr>" + "".join(f"<td{cls(k)}>{esc(c)}</td>" for k, c in enumerate(r)) + "</tr>"
+          for r in rows]
+    h.append("</table>")
+    md = ["| " + " | ".join(head) + " |",
+          "|" + "|".join(":---" if k < left else "---:" for k in range(len(head))) + "|"]
+    md += ["| " + " | ".join(str(c).replace("|", "/") for c in r) + " |" for r in rows]
+    return "\n".join(h), "\n".join(md)
