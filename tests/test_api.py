@@ -104,6 +104,15 @@ def test_warnings_go_through_the_warnings_module_and_nothing_prints(tmp_path, ca
     assert out.out == "" and out.err == ""
 
 
+def test_frequencies_given_to_solve_get_the_quasi_static_check(strip_case, tmp_path, capsys):
+    # The same check as a [sweep] above the limit: a 10 mm strip is quasi-static to ~1.4 GHz
+    # (c0 / (10 sqrt(4.5) D), common practice), so 5 GHz must warn, on the API and the CLI.
+    with pytest.warns(copperpath.CopperpathWarning, match="quasi-static"):
+        copperpath.solve(strip_case, frequencies=[5e9])
+    assert main(["solve", str(strip_case), "--freq", "5GHz", "--out", str(tmp_path / "o")]) == 0
+    assert "quasi-static" in capsys.readouterr().err
+
+
 def test_api_rejects_bad_arguments(strip_case):
     with pytest.raises(copperpath.InputError, match="frequencies"):
         copperpath.solve(strip_case, frequencies=[-1.0])

@@ -1,12 +1,14 @@
 """report.html (self-contained) and report.md: content, embedding and a headless render."""
 import base64
 import html
+import re
 import shutil
 import subprocess
 
 import pytest
 
 from copperpath.solver.output.maps import write_maps
+from copperpath.solver.output.formatting import engineering
 from copperpath.solver.output.report import CAUTION, write_report
 from tests.test_plot import distinct_colours
 from tests.test_post import lumped_case
@@ -47,6 +49,25 @@ def test_html_is_self_contained(report):
             assert f"{result.inductance[i, k, k] * 1e9:.5g}" in text
     assert "ESL" in text                                 # the lumped branch, in the bottleneck table
     assert not list(out.glob(".*"))
+
+
+def test_the_answer_comes_first_with_a_contents_list(report):
+    out, case, result, images, bottlenecks, html_path, md_path = report
+    text = html_path.read_text(encoding="utf-8")
+    heads = re.findall(r'<h2 id="(s\d+)">([^<]*)</h2>', text)
+    titles = [t for _, t in heads]
+    assert titles[0] == "The answer"
+    assert titles.index("Warnings") < titles.index("Maps")
+    assert titles[-1] == "Cautions"
+    toc = text[text.index('<nav class="toc">'):text.index("</nav>")]
+    for anchor, title in heads:                            # every section in the contents list
+        assert f'<a href="#{anchor}">{html.escape(title)}</a>' in toc
+    answer = text[text.index('id="s1"'):text.index('id="s2"')]
+    k = 0
+    top = len(result.frequencies) - 1                      # R and L at DC and the top frequency
+    assert engineering(result.inductance[top, k, k], "H") in answer
+    assert engineering(result.resistance[0, k, k], "ohm") in answer
+    assert "#1" in answer and "% of L" in answer           # where the inductance lives
 
 
 def test_markdown_refers_to_files(report):

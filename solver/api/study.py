@@ -171,6 +171,7 @@ def solve(case, frequencies=None, method=None, *, tolerance=None, progress=None,
         freqs = np.unique(np.asarray(frequencies, float).ravel())
         if freqs.size == 0 or not np.all(np.isfinite(freqs)) or (freqs < 0).any():
             raise InputError(f"frequencies must be finite and >= 0 Hz, got {list(frequencies)}")
+        _warn_quasi_static(case, freqs.max())
     method = case.solver.method if method is None else method
     if method not in ("auto", "dense", "fast"):
         raise InputError(f"method must be 'auto', 'dense' or 'fast', got {method!r}")
@@ -192,6 +193,19 @@ def solve(case, frequencies=None, method=None, *, tolerance=None, progress=None,
     timing["solve"] = time.perf_counter() - t
     _warn_checks(case, result, rtol)
     return Solution(case=case, mesh=mesh, system=system, result=result, timing=timing)
+
+
+def _warn_quasi_static(case, f_top):
+    """Warn when frequencies given in place of the case's sweep exceed the quasi-static limit
+    (the case reader checks its own ``[sweep]``)."""
+    from copperpath.geometry.case import quasi_static_limit
+
+    f_lim, d = quasi_static_limit(case.layout)
+    if f_top > f_lim:
+        warnings.warn(f"{Path(case.path).name}: frequencies: top frequency {f_top:g} Hz exceeds the "
+                      f"quasi-static limit {f_lim:.3g} Hz for the largest modelled dimension "
+                      f"D = {d / case.unit_scale:g} {case.unit}; the results above it are not "
+                      f"valid", CopperpathWarning, stacklevel=3)
 
 
 def _warn_checks(case, result, rtol):

@@ -60,11 +60,10 @@ def write_outputs(case, mesh, system, result, out, *, timing=None, extra_section
                                 circuit=estimate.to_dict() if estimate else None, timing=timing,
                                 length_unit=case.unit)
     sections = list(extra_sections)
-    if estimate is not None:
-        sections.append(circuit_section(estimate))
     sections.append(exports_section(stem, n, fitted.max_relative_error))
     write_report(out, case, result, summary, images, bottlenecks=bottlenecks,
-                 warnings=case.warnings, extra_sections=sections)
+                 extra_sections=sections,
+                 lead_sections=[circuit_section(estimate)] if estimate is not None else ())
     summary["files"] = ["result.json", "impedance.csv", f"{stem}_Z.s{n}p", f"{stem}_S.s{n}p",
                         f"{stem}.cir", "mesh.vtu", "report.html", "report.md", "maps/"]
     summary["spice_fit_error"] = fitted.max_relative_error

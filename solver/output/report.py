@@ -39,6 +39,11 @@ table{border-collapse:collapse;margin:8px 0 16px;font-size:.92em}
 th,td{border:1px solid #d6d6d6;padding:4px 10px;text-align:right}
 th{background:#f0f0f0;font-weight:600}td.l,th.l{text-align:left}
 figure{margin:12px 0 24px}figure img{max-width:100%;border:1px solid #e2e2e2}
+.grid{display:grid;grid-template-columns:repeat(auto-fill,minmax(480px,1fr));gap:0 18px}
+.grid figure{margin:8px 0 16px}
+nav.toc{background:#f6f6f6;border:1px solid #e2e2e2;padding:6px 18px;margin:12px 0}
+nav.toc ol{margin:6px 0;padding-left:20px}
+.answer td,.answer th{font-size:1.02em}
 figcaption{color:#555;font-size:.88em;margin-top:4px}
 .caution{border-left:4px solid #8a6d3b;background:#f7f3ea;padding:10px 14px;margin:16px 0}
 .warn{border-left:4px solid #a94442;background:#f8eeee;padding:8px 14px}
@@ -114,8 +119,33 @@ def _figure_md(path, caption, out_dir):
     return f"![{caption}]({rel})\n\n*{caption}*"
 
 
+def _answer(case, result, bottlenecks, top=3):
+    """The first section: each port's R and L at DC and at the highest frequency, and where its
+    inductance lives (the first bottlenecks). ``[(html, markdown), ...]``."""
+    f = result.frequencies
+    at = sorted({0, len(f) - 1})
+    r, ell = result.resistance, result.inductance
+    head = ["port"] + [f"{q} {format_frequency(f[i])}" for i in at for q in ("R", "L")]
+    rows = [[name] + [v for i in at for v in (engineering(r[i, k, k], "ohm"),
+                                              engineering(ell[i, k, k], "H"))]
+            for k, name in enumerate(result.ports)]
+    h, m = table(head, rows)
+    parts = [(f'<div class="answer">{h}</div>', m)]
+    for name in result.ports:
+        mine = [b for b in bottlenecks if b.get("port") == name][:top]
+        if not mine:
+            continue
+        words = "; ".join(
+            f"#{b.get('rank', n + 1)} {b.get('name') or b.get('kind', 'copper')} on {b['layer']} at "
+            f"({b['x']:.3g}, {b['y']:.3g}) {case.unit}: {100 * b['inductance_share']:.0f} % of L"
+            for n, b in enumerate(mine))
+        text = f"Where the loop inductance of port {name} lives: {words} (full list below)."
+        parts.append((f"<p>{_esc(text)}</p>", text))
+    return parts
+
+
 def write_report(out_dir, case, result, summary=None, images=(), *, bottlenecks=None,
-                 warnings=(), extra_sections=()):
+                 warnings=(), extra_sections=(), lead_sections=()):
     """Write ``report.html`` and ``report.md`` into ``out_dir``.
 
     Parameters
@@ -132,7 +162,9 @@ def write_report(out_dir, case, result, summary=None, images=(), *, bottlenecks=
     warnings : sequence of str
         Shown with the case's own warnings.
     extra_sections : sequence of (str, str, str)
-        ``(title, html, markdown)`` sections added after the bottlenecks.
+        ``(title, html, markdown)`` sections added after the maps.
+    lead_sections : sequence of (str, str, str)
+        Sections placed right after the answer (e.g. what the loop means for the converter).
 
     Returns
     -------
@@ -143,7 +175,14 @@ def write_report(out_dir, case, result, summary=None, images=(), *, bottlenecks=
     out_dir.mkdir(parents=True, exist_ok=True)
     if bottlenecks is None:
         bottlenecks = (summary or {}).get("bottlenecks", [])
-    sections = []                                     # (title, [(html, md), ...])
+    sections = [("The answer", _answer(case, result, bottlenecks))]   # (title, [(html, md)])
+    for title, h, m in lead_sections:
+        sections.append((title, [(h, m)]))
+    all_warnings = list(case.warnings) + list(warnings)
+    if all_warnings:
+        items = "".join(f"<li>{_esc(w)}</li>" for w in all_warnings)
+        sections.append(("Warnings", [(f'<div class="warn"><ul>{items}</ul></div>',
+                                       "\n".join(f"- {w}" for w in all_warnings))]))
     sections.append(("Case", _case_tables(case, summary)))
     rl = [(f"<h3>{_esc(t)}</h3>\n{h}", f"### {t}\n\n{m}") for t, (h, m) in _rl_tables(case, result)]
     rl.append(("<p>L is Im Z / (2 pi f) above DC and the DC-limit inductance at DC; R is Re Z. "
@@ -162,14 +201,10 @@ def write_report(out_dir, case, result, summary=None, images=(), *, bottlenecks=
         sections.append(("Bottlenecks", [(f"<p>{_esc(text)}</p>\n{h}", f"{text}\n\n{m}")]))
     maps = [(_figure_html(p, c), _figure_md(p, c, out_dir)) for p, c, k in pics if k != "rl"]
     if maps:
-        sections.append(("Maps", maps))
+        sections.append(("Maps", [('<div class="grid">' + "".join(h for h, _ in maps) + "</div>",
+                                   "\n\n".join(m for _, m in maps))]))
     for title, h, m in extra_sections:
         sections.append((title, [(h, m)]))
-    all_warnings = list(case.warnings) + list(warnings)
-    if all_warnings:
-        items = "".join(f"<li>{_esc(w)}</li>" for w in all_warnings)
-        sections.append(("Warnings", [(f'<div class="warn"><ul>{items}</ul></div>',
-                                       "\n".join(f"- {w}" for w in all_warnings))]))
     sections.append(("Cautions", [(f'<div class="caution">{_esc(CAUTION)}</div>', f"> {CAUTION}")]))
 
     sub = (f"copperpath report of {Path(case.path).name}. Estimates from a field model, per ampere "
@@ -188,8 +223,12 @@ def write_page(out_dir, title, sub, sections):
     out_dir = Path(out_dir)
     body = [f"<h1>{_esc(title)}</h1>", f'<p class="sub">{_esc(sub)}</p>']
     md = [f"# {title}", "", sub, ""]
-    for head, parts in sections:
-        body.append(f"<h2>{_esc(head)}</h2>")
+    body.append('<nav class="toc"><b>Contents</b><ol>' + "".join(
+        f'<li><a href="#s{k + 1}">{_esc(head)}</a></li>' for k, (head, _) in enumerate(sections))
+        + "</ol></nav>")
+    md += ["Contents:", ""] + [f"{k + 1}. {head}" for k, (head, _) in enumerate(sections)] + [""]
+    for k, (head, parts) in enumerate(sections):
+        body.append(f'<h2 id="s{k + 1}">{_esc(head)}</h2>')
         md += [f"## {head}", ""]
         for h, m in parts:
             body.append(h)
