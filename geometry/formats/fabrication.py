@@ -220,10 +220,10 @@ def _zip_files(path, max_files, max_bytes):
                 raise input_error(path, None, f"{total} bytes uncompressed, more than the limit of {max_bytes}")
             out, skipped, left = [], [], max_bytes
             for info in infos:
-                mode = info.external_attr >> 16
+                kind = stat.S_IFMT(info.external_attr >> 16) if info.create_system == 3 else 0
                 if info.is_dir():
                     continue
-                if mode and not stat.S_ISREG(mode):
+                if kind not in (0, stat.S_IFREG):
                     skipped.append(f"skipped {info.filename}: not a regular file in the archive "
                                    "(a symbolic link or special file)")
                     continue
