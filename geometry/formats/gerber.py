@@ -166,6 +166,9 @@ def load_text(path_or_buffer, name=None):
             raise input_error(label, None, f"more than the limit of {MAX_FILE_BYTES} bytes")
     if isinstance(data, bytes):
         data = data.decode("utf-8", errors="replace")
+    nul = data.find("\0")
+    if nul >= 0:
+        raise input_error(label, None, f"binary data (a NUL byte at offset {nul}); expected a text file")
     return data, label
 
 
