@@ -1,7 +1,7 @@
 """Property-based fuzzing of the input readers (hypothesis): whatever the input, a reader
 returns or raises :class:`geometry.errors.InputError`, and within a few seconds.
 
-The inputs are drawn from each format's grammar with hostile values and byte mutations
+The inputs are built from each format's grammar with hostile values and byte mutations
 (``tests/fuzz_inputs.py``). 2,000 examples per reader here, derandomised so that CI is
 reproducible; ``scripts/fuzz.py`` runs more with fresh random seeds.
 """
@@ -43,24 +43,24 @@ _FAB_DIR = Path(tempfile.mkdtemp(prefix="fuzz-fab-"))
 
 
 @FUZZ
-@given(fz.case_bytes)
+@given(fz.case_inputs)
 def test_case_reader(data):
     only_input_errors(fz.run_case, _CASE_DIR, data)
 
 
 @FUZZ
-@given(fz.gerber_bytes)
+@given(fz.gerber_inputs)
 def test_gerber_reader(data):
     only_input_errors(fz.run_gerber, data)
 
 
 @FUZZ
-@given(fz.excellon_bytes)
+@given(fz.excellon_inputs)
 def test_excellon_reader(data):
     only_input_errors(fz.run_excellon, data)
 
 
 @FUZZ
-@given(fz.fab_source())
+@given(fz.fab_specs)
 def test_fabrication_reader(spec):
     only_input_errors(lambda: fz.run_fab(fz.build_fab(_FAB_DIR / "src", spec)))
