@@ -44,6 +44,9 @@ from copperpath.geometry.formats import board
 from copperpath.geometry.formats import read_artwork as read_gerber
 from copperpath.geometry.formats import read_drills
 from copperpath.geometry.formats.fabrication import scan
+from copperpath.geometry.limits import (BOARD_EXTENT, RANGES, MAX_CASE_BYTES, MAX_FREQUENCIES, MAX_SUBLAYERS, MAX_VIAS,
+                             MIN_LENGTH, as_float, coordinate_ok, in_range, range_text, read_regular,
+                             size_ok, text_problem)
 from copperpath.geometry.layout import CopperShape, build_layout, via_array
 from copperpath.geometry.model import (Case, CircuitOptions, Layer, Lumped, MeshOptions, Port,
                             SolverOptions, Terminal, Via)
@@ -62,6 +65,8 @@ DEFAULT_ANNULUS = 0.3e-3
 MAX_ISLAND_WARNINGS = 10
 
 _MISSING = object()
+#: Highest frequency of a sweep in Hz (see :data:`copperpath.geometry.limits.RANGES`).
+_FMAX = RANGES["frequency"][1]
 
 
 # ----------------------------------------------------------------------------- items
@@ -87,14 +92,18 @@ class _Item:
 def _show(value):
     """A TOML value as the user wrote it (about)."""
     if isinstance(value, str):
-        return repr(value)
-    if isinstance(value, bool):
-        return "true" if value else "false"
-    return str(value)
+        text = repr(value)
+    elif isinstance(value, bool):
+        text = "true" if value else "false"
+    elif isinstance(value, int) and abs(value) > 10 ** 15:
+        text = f"an integer of {len(str(abs(value)))} digits"
+    else:
+        text = str(value)
+    return text if len(text) <= 60 else text[:57] + "..."
 
 
 def _is_number(v):
-    return isinstance(v, (int, float)) and not isinstance(v, bool) and math.isfinite(v)
+    return as_float(v) is not None
 
 
 class _Fields:
@@ -126,24 +135,59 @@ class _Fields:
         if key not in self.data:
             return self.raw(key, default)
         v = self.data[key]
-        ok = _is_number(v) and (lower is None or (v > lower if strict else v >= lower))
+        x = as_float(v)
+        ok = x is not None and (lower is None or (x > lower if strict else x >= lower))
         if not ok:
             raise self.fail(f"'{key}' must be {what}, got {_show(v)}")
-        return float(v)
+        return x
+
+    def ranged(self, key, default, what, *, length=False):
+        """A positive value in :data:`copperpath.geometry.limits.RANGES` (``length``: in file units)."""
+        if key not in self.data:
+            return self.raw(key, default)
+        scale, unit = (self.scale, self.item.unit) if length else (1.0, "")
+        x = self.number(key, lower=0, what=what) * scale
+        if not in_range(key, x):
+            raise self.fail(f"'{key}' must be {what} from {range_text(key, scale, unit)}, "
+                            f"got {_show(self.data[key])}")
+        return x
 
     def length(self, key, default=_MISSING, *, positive=False):
-        """A length in metres; ``default`` is already in metres."""
+        """A length in metres; ``default`` is already in metres.
+
+        A positive length is a size (``MIN_LENGTH`` to ``BOARD_EXTENT``); any other length
+        is a coordinate (inside the board extent).
+        """
         if key not in self.data:
             return self.raw(key, default)
         what = "a positive length" if positive else "a length (a number)"
-        return self.number(key, lower=0 if positive else None, what=what) * self.scale
+        x = self.number(key, lower=0 if positive else None, what=what) * self.scale
+        if positive:
+            self.check_size(key, x, self.data[key])
+        elif not coordinate_ok(x):
+            raise self.fail(f"'{key}' {_show(self.data[key])} lies outside the board extent "
+                            f"(within {self.show(BOARD_EXTENT)} {self.item.unit} of the origin)")
+        return x
 
-    def integer(self, key, default=_MISSING, *, lower=1):
+    def check_size(self, key, si, shown):
+        """Raise unless the size ``si`` (metres) lies in ``[MIN_LENGTH, BOARD_EXTENT]``."""
+        if not size_ok(si):
+            raise self.fail(f"'{key}' must be a positive length from {self.show(MIN_LENGTH)} to "
+                            f"{self.show(BOARD_EXTENT)} {self.item.unit}, got {_show(shown)}")
+
+    def coordinates(self, key, values):
+        """Raise unless every coordinate (file units) lies inside the board extent."""
+        bad = [v for v in np.ravel(values) if not coordinate_ok(v * self.scale)]
+        if bad:
+            raise self.fail(f"'{key}' coordinate {bad[0]:g} lies outside the board extent "
+                            f"(within {self.show(BOARD_EXTENT)} {self.item.unit} of the origin)")
+
+    def integer(self, key, default=_MISSING, *, lower=1, upper=10**6):
         if key not in self.data:
             return self.raw(key, default)
         v = self.data[key]
-        if not (isinstance(v, int) and not isinstance(v, bool) and v >= lower):
-            raise self.fail(f"'{key}' must be an integer >= {lower}, got {_show(v)}")
+        if not (isinstance(v, int) and not isinstance(v, bool) and lower <= v <= upper):
+            raise self.fail(f"'{key}' must be an integer from {lower} to {upper}, got {_show(v)}")
         return v
 
     def string(self, key, default=_MISSING, choices=None):
@@ -153,6 +197,9 @@ class _Fields:
         if not isinstance(v, str) or (choices and v not in choices):
             expected = ("one of " + ", ".join(f"'{c}'" for c in choices)) if choices else "a string"
             raise self.fail(f"'{key}' must be {expected}, got {_show(v)}")
+        problem = text_problem(v)
+        if problem:
+            raise self.fail(f"'{key}' {problem}; expected printable text")
         return v
 
     def boolean(self, key, default):
@@ -165,7 +212,9 @@ class _Fields:
         """``value`` as a list of exactly ``n`` numbers (file units)."""
         if not (isinstance(value, list) and len(value) == n and all(_is_number(x) for x in value)):
             raise self.fail(f"'{key}' must be a list of {n} numbers, got {_show(value)}")
-        return [float(x) for x in value]
+        out = [float(x) for x in value]
+        self.coordinates(key, out)
+        return out
 
     def points(self, key, value, least):
         """``value`` as an (N, 2) array of points (file units), N >= ``least``."""
@@ -174,7 +223,9 @@ class _Fields:
             raise self.fail(f"'{key}' must be a list of [x, y] points, got {_show(value)}")
         if len(value) < least:
             raise self.fail(f"'{key}' must have at least {least} points, got {len(value)}")
-        return np.asarray(value, dtype=float).reshape(-1, 2)
+        out = np.asarray(value, dtype=float).reshape(-1, 2)
+        self.coordinates(key, out)
+        return out
 
     def inline(self, key, allowed):
         """An inline table whose keys are all in ``allowed`` and all given."""
@@ -202,17 +253,22 @@ class _Fields:
 
 # ----------------------------------------------------------------------------- reading
 def _read_toml(path, referrer=None):
-    try:
-        with open(path, "rb") as f:
-            return tomllib.load(f)
-    except FileNotFoundError:
+    if not path.exists():
         if referrer is not None:
             raise input_error(referrer, None, f"'extends' file not found: {path}") from None
         raise input_error(path, None, "file not found") from None
+    data = read_regular(path, max_bytes=MAX_CASE_BYTES)
+    try:
+        text = data.decode("utf-8")
+    except UnicodeDecodeError as exc:
+        raise input_error(path, None, f"not UTF-8 text (byte 0x{data[exc.start]:02x} at offset "
+                          f"{exc.start}); expected a TOML case file") from None
+    try:
+        return tomllib.loads(text)
     except tomllib.TOMLDecodeError as exc:
         raise input_error(path, None, f"TOML syntax error: {exc}") from None
-    except OSError as exc:
-        raise input_error(path, None, f"cannot read the file: {exc.strerror}") from None
+    except RecursionError:
+        raise input_error(path, None, "TOML nested too deeply; expected a case file") from None
 
 
 def _assign_default_names(items):
@@ -236,6 +292,9 @@ def _load_doc(path, chain=()):
     for key in ("title", "units", "extends"):
         if key in data and not isinstance(data[key], str):
             raise input_error(path, None, f"'{key}' must be a string, got {_show(data[key])}")
+        problem = text_problem(data[key]) if key in data else None
+        if problem:
+            raise input_error(path, None, f"'{key}' {problem}; expected printable text")
     doc = {"title": None, "unit": "mm", "arrays": {t: [] for t in ARRAY_TABLES}, "singles": {}}
     if "extends" in data:
         base = path.parent / data["extends"]
@@ -271,6 +330,9 @@ def _merge_array(items, table, entries, path, unit):
         name = entry.get("name")
         if name is not None and not isinstance(name, str):
             raise input_error(path, item.label, f"'name' must be a string, got {_show(name)}")
+        problem = text_problem(name) if name is not None else None
+        if problem or name == "":
+            raise input_error(path, item.label, f"'name' {problem or 'is empty'}; expected printable text")
         item.name, item.named = name, name is not None
         remove = entry.get("remove", False)
         if not isinstance(remove, bool):
@@ -304,10 +366,12 @@ def _check_unique(items):
 def _layer(item):
     f = _Fields(item, ("name", "z", "thickness", "conductivity", "sublayers", "artwork"))
     sub = f.raw("sublayers", 1)
-    if sub != "auto" and not (isinstance(sub, int) and not isinstance(sub, bool) and sub >= 1):
-        raise f.fail(f"'sublayers' must be an integer >= 1 or \"auto\", got {_show(sub)}")
-    return Layer(name=item.name, z=f.length("z"), thickness=f.length("thickness", positive=True),
-                 conductivity=f.number("conductivity", 5.8e7, lower=0, what="a positive number (S/m)"),
+    if sub != "auto" and not (isinstance(sub, int) and not isinstance(sub, bool) and 1 <= sub <= MAX_SUBLAYERS):
+        raise f.fail(f"'sublayers' must be an integer >= 1 or \"auto\", got {_show(sub)} "
+                     f"(at most {MAX_SUBLAYERS})")
+    return Layer(name=item.name, z=f.length("z"),
+                 thickness=f.ranged("thickness", _MISSING, "a positive length", length=True),
+                 conductivity=f.ranged("conductivity", 5.8e7, "a positive number (S/m)"),
                  sublayers=sub, artwork=f.path("artwork", None))
 
 
@@ -351,11 +415,13 @@ def _shape(f, keys):
         center = f.numbers("circle.center", c["center"], 2)
         if not (_is_number(c["radius"]) and c["radius"] > 0):
             raise f.fail(f"'circle' radius must be a positive length, got {_show(c['radius'])}")
+        f.check_size("circle.radius", c["radius"] * s, c["radius"])
         return shapes.circle((center[0] * s, center[1] * s), c["radius"] * s)
     t = f.inline("trace", ("path", "width"))
     path = f.points("trace.path", t["path"], 2)
     if not (_is_number(t["width"]) and t["width"] > 0):
         raise f.fail(f"'trace' width must be a positive length, got {_show(t['width'])}")
+    f.check_size("trace.width", t["width"] * s, t["width"])
     if len(np.unique(path, axis=0)) < 2:
         raise f.fail("'trace' path must have at least two distinct points")
     return shapes.trace(path * s, t["width"] * s)
@@ -397,7 +463,7 @@ def _vias(item, layers):
     if pad <= drill:
         raise f.fail(f"'pad' {f.show(pad)} must exceed 'drill' {f.show(drill)}")
     via = Via(name=item.name, x=x * f.scale, y=y * f.scale, drill=drill,
-              plating=f.length("plating", DEFAULT_PLATING, positive=True), pad=pad,
+              plating=f.ranged("plating", DEFAULT_PLATING, "a positive length", length=True), pad=pad,
               span=_span(f, layers))
     if "array" not in f.data:
         return (via,)
@@ -407,6 +473,11 @@ def _vias(item, layers):
     if not (isinstance(count, list) and len(count) == 2
             and all(isinstance(c, int) and not isinstance(c, bool) and c >= 1 for c in count)):
         raise f.fail(f"'array' count must be two integers >= 1, got {_show(count)}")
+    if count[0] * count[1] > MAX_VIAS:
+        raise f.fail(f"'array' count {count[0]} x {count[1]} makes {count[0] * count[1]} vias, more than "
+                     f"the limit of {MAX_VIAS} vias in a case")
+    for axis, v0, p, n in zip("xy", (x, y), pitch, count):
+        f.coordinates(f"array (last via along {axis})", [v0 + p * (n - 1)])
     for axis, p, n in zip("xy", pitch, count):
         if n > 1 and abs(p) * f.scale < drill:
             raise f.fail(f"'array' pitch {p:g} along {axis} is less than the drill "
@@ -418,7 +489,7 @@ def _drill(item, layers):
     f = _Fields(item, ("name", "file", "layers", "plating"))
     return {"name": item.name, "file": f.path("file"),
             "span": _span(f, layers) if "layers" in f.data else None,
-            "plating": f.length("plating", DEFAULT_PLATING, positive=True)}
+            "plating": f.ranged("plating", DEFAULT_PLATING, "a positive length", length=True)}
 
 
 def _terminal(item, names):
@@ -453,8 +524,17 @@ def _lumped(item, terminals):
     if a == b:
         raise f.fail(f"'between' must name two different terminals, got '{a}' twice")
     return Lumped(item.name, (a, b),
-                  resistance=f.number("resistance", 0.0, lower=0, strict=False, what="a number >= 0 (ohm)"),
-                  inductance=f.number("inductance", 0.0, lower=0, strict=False, what="a number >= 0 (henry)"))
+                  resistance=_bounded(f, "resistance", "a number >= 0 (ohm)"),
+                  inductance=_bounded(f, "inductance", "a number >= 0 (henry)"))
+
+
+def _bounded(f, key, what, range_key=None, default=0.0):
+    """A number in ``RANGES[range_key or key]`` (zero allowed where the range starts at 0)."""
+    range_key = range_key or key
+    v = f.number(key, default, lower=0, strict=False, what=what)
+    if v is not None and not in_range(range_key, v):
+        raise f.fail(f"'{key}' must be {what} from {range_text(range_key)}, got {_show(f.data[key])}")
+    return v
 
 
 def _sweep(item):
@@ -470,12 +550,17 @@ def _sweep(item):
             raise f.fail(f"'frequencies' must be a non-empty list of numbers (Hz), got {_show(v)}")
         if min(v) < 0:
             raise f.fail(f"'frequencies' must be >= 0 Hz, got {_show(min(v))}")
+        if len(v) > MAX_FREQUENCIES or max(v) > _FMAX:
+            raise f.fail(f"'frequencies' must hold at most {MAX_FREQUENCIES} frequencies from "
+                         f"{range_text('frequency')} Hz, got {len(v)} up to {_show(max(v))}")
         return np.unique(np.asarray(v, dtype=float))
     if not ranged:
         raise f.fail("expected 'frequencies' or 'start', 'stop' and 'points'")
     start = f.number("start", lower=0, what="a positive frequency (Hz; the sweep is log-spaced)")
     stop = f.number("stop", lower=start, what=f"a frequency above 'start' ({start:g} Hz)")
-    points = f.integer("points", lower=2)
+    if stop > _FMAX:
+        raise f.fail(f"'stop' must be at most {_FMAX:g} Hz, got {_show(f.data['stop'])}")
+    points = f.integer("points", lower=2, upper=MAX_FREQUENCIES)
     return np.geomspace(start, stop, points)
 
 
@@ -496,10 +581,11 @@ def _window(item):
         return None
     f = _Fields(item, ("rect",))
     x0, y0, x1, y1 = f.numbers("rect", f.raw("rect"), 4)
-    if x0 == x1 or y0 == y1:
-        raise f.fail(f"'rect' must have x0 != x1 and y0 != y1, got {_show(f.data['rect'])}")
+    if not (x0 < x1 and y0 < y1):
+        raise f.fail(f"'rect' must be [x0, y0, x1, y1] with x0 < x1 and y0 < y1 (lower left, then "
+                     f"upper right corner), got {_show(f.data['rect'])}")
     s = f.scale
-    return (min(x0, x1) * s, min(y0, y1) * s, max(x0, x1) * s, max(y0, y1) * s)
+    return (x0 * s, y0 * s, x1 * s, y1 * s)
 
 
 def _solver(item):
@@ -525,9 +611,14 @@ def _circuit(item, ports):
         port = names[0]
     else:
         raise f.fail(f"'port' must name the port to use, one of {len(names)} in the case")
-    pos = {"lower": 0, "what": "a positive number (SI)"}
-    di_dt = f.number("di_dt", None, **pos)
-    current, rise = f.number("current", None, **pos), f.number("rise_time", None, **pos)
+    def pos(key):
+        v = f.number(key, None, lower=0, what="a positive number (SI)")
+        if v is not None and not in_range("circuit", v):
+            raise f.fail(f"'{key}' must be a positive number (SI) from {range_text('circuit')}, "
+                         f"got {_show(f.data[key])}")
+        return v
+    di_dt = pos("di_dt")
+    current, rise = pos("current"), pos("rise_time")
     if di_dt is not None and (current is not None or rise is not None):
         raise f.fail("give either 'di_dt' or 'current' and 'rise_time', not both")
     if (current is None) != (rise is None):
@@ -535,8 +626,7 @@ def _circuit(item, ports):
     if current is not None:
         di_dt = current / rise
     return CircuitOptions(port=port, di_dt=di_dt, current=current, rise_time=rise,
-                          output_capacitance=f.number("output_capacitance", None, **pos),
-                          input_voltage=f.number("input_voltage", None, **pos))
+                          output_capacitance=pos("output_capacitance"), input_voltage=pos("input_voltage"))
 
 
 def _fabrication(item):
@@ -598,6 +688,10 @@ def _board_inputs(path, layers, drills, fabrication, read, window, scale, unit):
 
 
 # ----------------------------------------------------------------------------- checks
+def _check_via_count(path, n, where):
+    if n > MAX_VIAS:
+        raise input_error(path, where, f"{n} vias in all, more than the limit of {MAX_VIAS} vias in a case")
+
 def _check_ports(layout, ports, lumped, port_items):
     found = bodies(layout, lumped)
     for port, item in zip(ports, port_items):
@@ -696,7 +790,10 @@ def load_case(path, *, read_artwork=None):
     layers = sorted(layers, key=lambda la: -la.z)
     names = [la.name for la in layers]
     copper = [_copper(it, names) for it in arrays["copper"]]
-    vias = [v for it in arrays["via"] for v in _vias(it, layers)]
+    vias = []
+    for it in arrays["via"]:
+        vias += _vias(it, layers)
+        _check_via_count(path, len(vias), it.label)
     drills = tuple(_drill(it, layers) for it in arrays["drill"])
     terminals = [_terminal(it, names) for it in arrays["terminal"]]
     term_names = {t.name for t in terminals}
@@ -712,6 +809,7 @@ def load_case(path, *, read_artwork=None):
     artwork, more_vias, notes, warnings = _board_inputs(path, layers, drills, fabrication, read_artwork,
                                                         window, scale, doc["unit"])
     vias += more_vias
+    _check_via_count(path, len(vias), "vias of the drill and fabrication files")
     labels = {("terminal", it.name): (it.source, it.label) for it in arrays["terminal"]}
     layout = build_layout(layers, copper, vias, terminals, window=window, artwork=artwork,
                           source=path, labels=labels)

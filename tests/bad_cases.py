@@ -56,10 +56,25 @@ def write_case(folder, text, extra=None):
     """Write ``text`` to ``folder/case.toml`` and ``extra`` files beside it; return the path."""
     folder = Path(folder)
     for name, body in (extra or {}).items():
-        (folder / name).write_text(body)
+        (folder / name).parent.mkdir(parents=True, exist_ok=True)
+        _write(folder / name, body)
     path = folder / "case.toml"
-    path.write_text(text)
+    _write(path, text)
     return path
+
+
+def _write(path, body):
+    """Write text, or bytes as they are (for binary and non-UTF-8 files)."""
+    if isinstance(body, bytes):
+        path.write_bytes(body)
+    else:
+        path.write_text(body)
+
+
+#: A Gerber header in mm with a 0.1 mm round aperture selected.
+_GERBER_HEAD = "%TF.FileFunction,Copper,L1,Top*%\n%FSLAX46Y46*%\n%MOMM*%\n%ADD10C,0.1*%\nD10*\n"
+#: GOOD with a drill file ``vias.drl`` on both layers.
+_DRILL = GOOD + L2 + '\n[[drill]]\nfile = "vias.drl"\n'
 
 
 def _unknown_key(table, body):
@@ -189,4 +204,88 @@ BAD_CASES = [
      ["vias.drl:4:", "tool T3 used before definition"], {"vias.drl": "M48\nMETRIC\n%\nT3\nX1.0Y0.5\nM30\n"}),
     ("fabrication_two_files_claim_L1", GOOD + '\n[fabrication]\nsource = "./"\n',
      ["two files claim copper layer L1", "a.gbr", "b.gbr"], {"a.gbr": _COPPER_L1, "b.gbr": _COPPER_L1}),
+    # robustness (issue 10): every limit of copperpath.geometry.limits, named in the message
+    ("binary_case_file", b"\xff\xfe\x00\x81 binary \x00", ["case.toml", "not UTF-8 text (byte 0xff at offset 0)"], {}),
+    ("latin1_case_file", GOOD.replace('name = "A"', 'name = "\xc4"').encode("latin-1"),
+     ["case.toml", "not UTF-8 text (byte 0xc4"], {}),
+    ("coordinate_1e300", GOOD.replace("rect = [0, 0, 10, 1]", "rect = [0, 0, 1e300, 1]"),
+     ["[[copper]] #1", "'rect' coordinate 1e+300 lies outside the board extent (within 2000 mm"], {}),
+    ("coordinate_beyond_extent_mil", 'units = "mil"\n' + GOOD.replace("rect = [0, 0, 10, 1]", "rect = [0, 0, 90000, 1]"),
+     ["[[copper]] #1", "'rect' coordinate 90000 lies outside the board extent (within 78740.2 mil"], {}),
+    ("integer_too_large_for_float", GOOD.replace("rect = [0, 0, 10, 1]", "rect = [0, 0, 1" + "0" * 400 + ", 1]"),
+     ["[[copper]] #1", "'rect' must be a list of 4 numbers"], {}),
+    ("integer_too_large_thickness", GOOD.replace("thickness = 0.035", "thickness = 1" + "0" * 400),
+     ["[[layer]] 'L1'", "'thickness' must be a positive length, got an integer of 401 digits"], {}),
+    ("nan_coordinate", GOOD.replace("rect = [0, 0, 10, 1]", "rect = [0, 0, nan, 1]"),
+     ["[[copper]] #1", "'rect' must be a list of 4 numbers, got [0, 0, nan, 1]"], {}),
+    ("inf_via", GOOD + L2 + "\n[[via]]\nat = [inf, 0.5]\ndrill = 0.3\n", ["[[via]] #1", "'at' must be a list of 2 numbers"], {}),
+    ("overflowing_float", GOOD.replace("z = 0.0", "z = 1e400"), ["[[layer]] 'L1'", "'z' must be a length (a number), got inf"], {}),
+    ("z_beyond_extent", GOOD.replace("z = 0.0", "z = 5000"), ["[[layer]] 'L1'", "'z' 5000 lies outside the board extent"], {}),
+    ("window_inverted", GOOD + "\n[window]\nrect = [10, 1, 0, 0]\n",
+     ["[window]", "'rect' must be [x0, y0, x1, y1] with x0 < x1 and y0 < y1", "got [10, 1, 0, 0]"], {}),
+    ("window_x_inverted", GOOD + "\n[window]\nrect = [10, 0, 0, 1]\n", ["[window]", "x0 < x1 and y0 < y1"], {}),
+    ("name_control_character", GOOD.replace('name = "B"', 'name = "B\\u001b[31m"'),
+     ["[[terminal]] #2", "'name' contains the control character U+001B"], {}),
+    ("name_empty", GOOD.replace('name = "B"', 'name = ""'), ["[[terminal]] #2", "'name' is empty"], {}),
+    ("title_control_character", 'title = "a\\nb"\n' + GOOD, ["case.toml", "'title' contains the control character U+000A"], {}),
+    ("extends_nul", 'extends = "base\\u0000.toml"\n', ["case.toml", "'extends' contains the control character U+0000"], {}),
+    ("artwork_nul", GOOD.replace("thickness = 0.035", 'thickness = 0.035\nartwork = "a\\u0000.gbr"'),
+     ["[[layer]] 'L1'", "'artwork' contains the control character U+0000"], {}),
+    ("via_array_1e8", GOOD + L2 + "\n[[via]]\nat = [5, 0.5]\ndrill = 0.3\narray = { pitch = [1, 1], count = [10000, 10000] }\n",
+     ["[[via]] #1", "'array' count 10000 x 10000 makes 100000000 vias, more than the limit of 100000"], {}),
+    ("via_array_beyond_extent", GOOD + L2 + "\n[[via]]\nat = [5, 0.5]\ndrill = 0.3\narray = { pitch = [500, 1], count = [10, 1] }\n",
+     ["[[via]] #1", "'array (last via along x)' coordinate 4505 lies outside the board extent"], {}),
+    ("via_count_in_all", GOOD + L2 + "".join(f"\n[[via]]\nat = [{k}, 0.5]\ndrill = 0.3\narray = {{ pitch = [0.001, 1], count = [1, 1] }}\n"
+                                            .replace("pitch = [0.001, 1], count = [1, 1]", "pitch = [1, 1], count = [250, 250]")
+                                            for k in range(2)),
+     ["[[via]] #2", "125000 vias in all, more than the limit of 100000"], {}),
+    ("circle_radius_1e20", GOOD + '\n[[copper]]\nlayer = "L1"\ncircle = { center = [5, 5], radius = 1e20 }\n',
+     ["[[copper]] #2", "'circle.radius' must be a positive length from 1e-06 to 2000 mm, got 1e+20"], {}),
+    ("width_underflows_to_zero", GOOD + '\n[[copper]]\nlayer = "L1"\ntrace = { path = [[0, 0], [5, 0]], width = 1e-320 }\n',
+     ["[[copper]] #2", "'trace.width' must be a positive length from 1e-06 to 2000 mm, got 1e-320"], {}),
+    ("width_below_grid_in_um", 'units = "um"\n' + GOOD.replace("rect = [0, 0, 10, 1]", "rect = [0, 0, 10000, 1000]")
+     + '\n[[copper]]\nlayer = "L1"\ntrace = { path = [[0, 0], [5, 0]], width = 1e-4 }\n',
+     ["'trace.width' must be a positive length from 0.001 to 2e+06 um, got 0.0001"], {}),
+    ("thickness_1e-300", GOOD.replace("thickness = 0.035", "thickness = 1e-300"),
+     ["[[layer]] 'L1'", "'thickness' must be a positive length from 1e-05 to 10 mm, got 1e-300"], {}),
+    ("conductivity_1e-300", GOOD.replace("thickness = 0.035", "thickness = 0.035\nconductivity = 1e-300"),
+     ["[[layer]] 'L1'", "'conductivity' must be a positive number (S/m) from 1000 to 1e+09, got 1e-300"], {}),
+    ("plating_range", GOOD + L2 + "\n[[via]]\nat = [5, 0.5]\ndrill = 0.3\nplating = 50\n",
+     ["[[via]] #1", "'plating' must be a positive length from 1e-05 to 10 mm, got 50"], {}),
+    ("sublayers_too_many", GOOD.replace("thickness = 0.035", "thickness = 0.035\nsublayers = 100000"),
+     ["'sublayers' must be an integer >= 1 or \"auto\", got 100000 (at most 32)"], {}),
+    ("sweep_too_many_points", GOOD + "\n[sweep]\nstart = 1\nstop = 1e6\npoints = 100000000\n",
+     ["[sweep]", "'points' must be an integer from 2 to 10000, got 100000000"], {}),
+    ("frequency_too_high", GOOD + "\n[sweep]\nfrequencies = [0, 1e300]\n", ["[sweep]", "up to 1e+300"], {}),
+    ("lumped_huge_inductance", GOOD + '\n[[lumped]]\nbetween = ["A", "B"]\ninductance = 1e300\n',
+     ["[[lumped]] #1", "'inductance' must be a number >= 0 (henry) from 0 to 1, got 1e+300"], {}),
+    ("circuit_tiny_rise_time", GOOD + "\n[circuit]\ncurrent = 10\nrise_time = 1e-300\n",
+     ["[circuit]", "'rise_time' must be a positive number (SI) from 1e-30 to 1e+30"], {}),
+    ("artwork_coordinate_1e8_mm", _ARTWORK, ["top.gbr:6:", "coordinate 100000000000000 lies outside the board extent"],
+     {"top.gbr": _GERBER_HEAD + "X100000000000000Y0D03*\nM02*\n"}),
+    ("artwork_coordinate_1e14", _ARTWORK, ["top.gbr:6:", "lies outside the board extent"],
+     {"top.gbr": _GERBER_HEAD + "X100000000000000000000Y0D03*\nM02*\n"}),
+    ("artwork_step_repeat_millions", _ARTWORK, ["top.gbr:", "more than 2000000 graphics objects"],
+     {"top.gbr": _GERBER_HEAD + "%SRX1000Y100I0.001J0.001*%\n" + "X0Y0D03*\n" * 21 + "%SR*%\nM02*\n"}),
+    ("artwork_moire_rings", _ARTWORK, ["top.gbr:", "moire with 100000 rings; expected 0 to 100"],
+     {"top.gbr": "%FSLAX46Y46*%\n%MOMM*%\n%AMM*6,0,0,1,0.001,0.001,100000,0.01,1,0*%\n%ADD10M*%\nD10*\nX0Y0D03*\nM02*\n"}),
+    ("artwork_binary", _ARTWORK, ["top.gbr", "binary data (a NUL byte at offset 0); expected a text file"],
+     {"top.gbr": bytes(range(256)) * 4}),
+    ("artwork_is_a_folder", _ARTWORK, ["top.gbr", "not a regular file (a folder)"], {"top.gbr/x": ""}),
+    ("drill_file_format_3_400", _DRILL, ["vias.drl:2:", "digit format", "3:400", "expected 0 to 9 digits"],
+     {"vias.drl": "M48\n;FILE_FORMAT=3:400\nMETRIC,TZ\nT1C0.3\n%\nT1\nX1000Y500\nM30\n"}),
+    ("drill_repeats_until_memory_runs_out", _DRILL, ["vias.drl:", "more than 1000000 drill hits and slots"],
+     {"vias.drl": "M48\nMETRIC\nT1C0.3\n%\nT1\nX1.0Y0.5\n" + "R100000X0.0Y0.0\n" * 11 + "M30\n"}),
+    ("drill_coordinate_beyond_extent", _DRILL, ["vias.drl:6:", "X coordinate 5000.0 lies outside the board extent"],
+     {"vias.drl": "M48\nMETRIC\nT1C0.3\n%\nT1\nX5000.0Y0.5\nM30\n"}),
+    ("drill_more_digits_than_format", _DRILL, ["vias.drl:6:", "more digits than the format 3:3"],
+     {"vias.drl": "M48\nMETRIC,LZ,000.000\nT1C0.3\n%\nT1\nX0010000000Y0005\nM30\n"}),
+    ("drill_huge_tool", _DRILL, ["vias.drl:3:", "tool T1 diameter 999999999.0 must be 0 or a positive size up to 2000 mm"],
+     {"vias.drl": "M48\nMETRIC\nT1C999999999.0\n%\nT1\nX1.0Y0.5\nM30\n"}),
+    ("fabrication_copper_layer_huge", GOOD + '\n[fabrication]\nsource = "fab"\n',
+     ["fab/a.gbr", "copper layer number 99999999999999 out of range; expected 1 to 100"],
+     {"fab/a.gbr": _COPPER_L1.replace("L1,Top", "L99999999999999,Top")}),
+    ("fabrication_drill_span_huge", GOOD + '\n[fabrication]\nsource = "fab"\n',
+     ["fab/a.drl", "drill span layer number 1000000 out of range"],
+     {"fab/a.drl": "M48\n; #@! TF.FileFunction,Plated,1,1000000,PTH\nMETRIC\nT1C0.3\n%\nT1\nX1.0Y0.5\nM30\n"}),
 ]

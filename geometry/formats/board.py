@@ -26,6 +26,8 @@ from pathlib import Path
 
 import numpy as np
 
+from copperpath.geometry.errors import input_error
+from copperpath.geometry.limits import MAX_VIAS
 from copperpath.geometry.model import Via
 
 __all__ = ["BoardInputs", "span_layers", "file_span", "drill_vias", "fabrication_inputs"]
@@ -165,6 +167,9 @@ def drill_vias(drills, span, *, plating, annulus, prefix, label, scale=1e-3, uni
     zero = int(np.sum(plated & (diameter <= 0)))
     skipped = int(np.sum(~plated)) + sum(1 for s in drills.slots if not s.plated)
     slots = [s for s in drills.slots if s.plated and s.diameter > 0]
+    if int(use.sum()) + len(slots) > MAX_VIAS:
+        raise input_error(label, None, f"{int(use.sum()) + len(slots)} plated holes and slots, more than "
+                                       f"the limit of {MAX_VIAS} vias in a case")
     zero += sum(1 for s in drills.slots if s.plated and s.diameter <= 0)
     for s in slots:
         centres.append((0.5 * (s.start[0] + s.end[0]), 0.5 * (s.start[1] + s.end[1])))

@@ -34,7 +34,6 @@ routed arcs (``G02``/``G03``), canned cycles and text (``M97``/``M98``, ``G81``.
 from __future__ import annotations
 
 import io  # noqa: F401 (used by the doctests)
-import math
 import re
 from dataclasses import dataclass, field
 from typing import NamedTuple
@@ -43,6 +42,7 @@ import numpy as np
 
 from copperpath.geometry.errors import input_error
 from copperpath.geometry.formats.gerber import load_text
+from copperpath.geometry.limits import BOARD_EXTENT, MAX_DRILL_HITS, coordinate_ok, size_ok
 
 __all__ = ["Drills", "Slot", "read", "read_text"]
 
@@ -50,8 +50,11 @@ _UNITS = {"METRIC": (1e-3, "mm", (3, 3)), "INCH": (25.4e-3, "inch", (2, 4))}
 _COORD = re.compile(r"(?:X([+-]?[\d.]+))?(?:Y([+-]?[\d.]+))?\Z")
 _TOOL = re.compile(r"T(\d+)((?:[A-Z][+-]?[\d.]+)*)\Z")
 _ATTR = re.compile(r";\s*#@!\s*(T[FAOD])\s*\.?([^,]*)(.*)\Z")
+_SPAN = re.compile(r"[0-9]{1,6}")
 _NPTH_NAME = re.compile(r"npth|non-?plated|unplated", re.I)
 _MAX_REPEAT = 100_000
+#: Allowed digits before and after the decimal point of integer coordinates.
+_INT_DIGITS, _DEC_DIGITS = range(0, 10), range(0, 10)
 
 
 class Slot(NamedTuple):
@@ -101,7 +104,7 @@ class Drills:
     def span(self) -> tuple[int, int] | None:
         """Copper layers ``(a, b)`` the holes join, from ``.FileFunction``, or None."""
         ff = self.file_attributes.get("FileFunction", ())
-        if len(ff) >= 3 and ff[0] in ("Plated", "NonPlated", "MixedPlating") and ff[1].isdigit() and ff[2].isdigit():
+        if len(ff) >= 3 and ff[0] in ("Plated", "NonPlated", "MixedPlating") and _SPAN.fullmatch(ff[1]) and _SPAN.fullmatch(ff[2]):
             return int(ff[1]), int(ff[2])
         return None
 
@@ -221,7 +224,7 @@ class _Reader:
             return
         m = re.match(r";\s*FILE_FORMAT\s*=\s*(\d+):(\d+)", line)
         if m:
-            self.digits = (int(m.group(1)), int(m.group(2)))
+            self.set_digits(n, int(m.group(1)), int(m.group(2)), line)
             return
         m = re.match(r";\s*TYPE\s*=\s*(PLATED|NON_PLATED)", line, re.I)
         if m:
@@ -236,7 +239,7 @@ class _Reader:
                     self.zeros = f
                 elif re.fullmatch(r"0+\.0+", f):
                     a, b = f.split(".")
-                    self.digits = (len(a), len(b))
+                    self.set_digits(n, len(a), len(b), f)
                 elif f:
                     raise self.error(n, f"unknown field {f[:20]!r} after {fields[0]}; "
                                         "expected LZ, TZ or a digit pattern like 000.000")
@@ -253,6 +256,12 @@ class _Reader:
         elif not re.fullmatch(r"[A-Z][A-Z0-9_]*(,[^;]*)?", line):
             raise self.error(n, f"unknown header line {line[:40]!r}; "
                                 "expected METRIC/INCH, a tool like T1C0.300, or '%'")
+
+    def set_digits(self, n, n_int, n_dec, text):
+        if n_int not in _INT_DIGITS or n_dec not in _DEC_DIGITS or n_int + n_dec == 0:
+            raise self.error(n, f"digit format {text[:40]!r} has {n_int}:{n_dec} digits; expected "
+                                "0 to 9 digits before and after the decimal point (e.g. 3:3)")
+        self.digits = (n_int, n_dec)
 
     def set_unit(self, unit):
         self.unit, self.unit_name, default = _UNITS[unit]
@@ -272,8 +281,9 @@ class _Reader:
         if self.unit is None:
             raise self.error(n, f"tool T{number} defined before the units; expected METRIC or INCH in the header")
         d = float(params["C"])
-        if not (0 <= d < 1e6):
-            raise self.error(n, f"tool T{number} diameter {params['C']} must be a non-negative number")
+        if not (d == 0 or size_ok(d * self.unit)):
+            raise self.error(n, f"tool T{number} diameter {params['C'][:20]} must be 0 or a positive size "
+                                f"up to {BOARD_EXTENT / self.unit:g} {self.unit_name}")
         self.tools[number] = _Tool(d * self.unit, self.pending_plated)
         if select:
             self.tool = self.tools[number]
@@ -311,6 +321,7 @@ class _Reader:
             self.x, self.y = self.point(n, a)
             start = (self.x, self.y)
             self.x, self.y = self.point(n, b)
+            self.count(n, 1)
             self.slots.append((start, (self.x, self.y), self.need_tool(n)))
         elif line.startswith("R"):
             m = re.match(r"R(\d+)(.*)\Z", line)
@@ -319,6 +330,11 @@ class _Reader:
                 raise self.error(n, f"malformed repeat {line[:40]!r}; expected R<count>X<step>Y<step>")
             dx, dy = self.step(n, m.group(2))
             tool = self.need_tool(n)
+            self.count(n, count)
+            end = (self.x + count * dx, self.y + count * dy)
+            if not (coordinate_ok(end[0]) and coordinate_ok(end[1])):
+                raise self.error(n, f"repeat {line[:40]!r} ends outside the board extent "
+                                    f"({BOARD_EXTENT * 1e3:g} mm from the origin)")
             for _ in range(count):
                 self.x, self.y = self.x + dx, self.y + dy
                 self.hits.append(((self.x, self.y), tool))
@@ -327,6 +343,7 @@ class _Reader:
                 self.routed(n, line)
             else:
                 self.x, self.y = self.point(n, line)
+                self.count(n, 1)
                 self.hits.append(((self.x, self.y), self.need_tool(n)))
         elif line.startswith(("G02", "G03", "G2", "G3")):
             raise self.error(n, "routed arcs (G02/G03) are not supported; expected straight routes (G01)")
@@ -340,7 +357,13 @@ class _Reader:
         if rest:
             self.x, self.y = self.point(n, rest)
         if self.route == "G01" and self.down:
+            self.count(n, 1)
             self.slots.append((start, (self.x, self.y), self.need_tool(n)))
+
+    def count(self, n, more):
+        if len(self.hits) + len(self.slots) + more > MAX_DRILL_HITS:
+            raise self.error(n, f"more than {MAX_DRILL_HITS} drill hits and slots (repeats expanded); "
+                                "expected a board's drill file")
 
     def need_tool(self, n):
         if self.tool is None:
@@ -356,8 +379,11 @@ class _Reader:
         else:
             n_int, n_dec = self.digits
             digits = text.lstrip("+-")
-            if not digits.isdigit():
+            if not re.fullmatch("[0-9]+", digits):
                 raise self.error(n, f"malformed {axis} coordinate {text[:20]!r}")
+            if len(digits) > n_int + n_dec:
+                raise self.error(n, f"{axis} coordinate {text[:20]} has more digits than the format "
+                                    f"{n_int}:{n_dec}; expected at most {n_int + n_dec}")
             if self.zeros is None and len(digits) != n_int + n_dec and not self.zero_warned:
                 self.warnings.append(f"{self.name}:{n}: integer coordinates without LZ/TZ; read as TZ "
                                      "(trailing zeros kept)")
@@ -365,9 +391,11 @@ class _Reader:
             if self.zeros == "LZ":
                 digits = digits.ljust(n_int + n_dec, "0")
             value = int(digits) * 10.0 ** -n_dec * (-1 if text.startswith("-") else 1)
-        if not math.isfinite(value) or abs(value) > 1e6:
-            raise self.error(n, f"{axis} coordinate {text[:20]} out of range")
-        return value * self.unit
+        value *= self.unit
+        if not coordinate_ok(value):
+            raise self.error(n, f"{axis} coordinate {text[:20]} lies outside the board extent "
+                                f"({BOARD_EXTENT * 1e3:g} mm from the origin)")
+        return value
 
     def point(self, n, text):
         """Modal point: a missing X or Y keeps the previous value."""
@@ -376,6 +404,9 @@ class _Reader:
             raise self.error(n, f"cannot parse coordinates {text[:40]!r}; expected X<number>Y<number>")
         x = self.number(n, m.group(1), "X") + self.origin[0] if m.group(1) is not None else self.x
         y = self.number(n, m.group(2), "Y") + self.origin[1] if m.group(2) is not None else self.y
+        if not (coordinate_ok(x) and coordinate_ok(y)):
+            raise self.error(n, f"point {text[:40]!r} after the origin shift (G93) lies outside the "
+                                f"board extent ({BOARD_EXTENT * 1e3:g} mm from the origin)")
         return x, y
 
     def step(self, n, text):

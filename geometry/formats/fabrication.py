@@ -17,14 +17,20 @@ The bottom layer then gets the number after the last inner layer. Every decision
 reported in :attr:`Fabrication.lines`.
 
 Zip archives are read in memory, never extracted. An archive is refused when it holds more
-than ``max_files`` entries, declares more than ``max_bytes`` uncompressed, or has a member
-whose path is absolute or climbs out with ``..``. The same limits apply to folders.
+than ``max_files`` entries, declares or decompresses to more than ``max_bytes`` (members are
+read through a bounded reader that stops at the limit, whatever sizes the archive declares),
+or has a member whose path is absolute or climbs out with ``..``. The same limits apply to
+folders. Only regular files are read: symbolic links that dangle or loop, FIFOs, sockets,
+devices (also behind a symbolic link) and symbolic links in a zip are skipped with a line in
+:attr:`Fabrication.lines`; linked folders are not followed. Copper layer numbers and drill
+spans must lie in 1 to :data:`copperpath.geometry.limits.MAX_LAYER_NUMBER`.
 """
 from __future__ import annotations
 
 import io
 import os
 import re
+import stat
 import zipfile
 import zlib
 from dataclasses import dataclass, field
@@ -33,6 +39,7 @@ from pathlib import Path, PurePosixPath
 from copperpath.geometry.errors import input_error
 from copperpath.geometry.formats import detect, excellon, gerber
 from copperpath.geometry.formats.gerber import DEFAULT_CHORD
+from copperpath.geometry.limits import MAX_LAYER_NUMBER, read_regular
 
 __all__ = ["DrillFile", "Fabrication", "scan", "MAX_FILES", "MAX_BYTES"]
 
@@ -47,10 +54,10 @@ _TF_DRILL = re.compile(r";\s*#@!\s*TF\.?FileFunction,([^\r\n]*)")
 _NAME_RULES = (
     (re.compile(r"[-_.]F[_.]Cu\.[^.]+$", re.I), "top"),
     (re.compile(r"[-_.]B[_.]Cu\.[^.]+$", re.I), "bottom"),
-    (re.compile(r"[-_.]In(\d+)[_.]Cu\.[^.]+$", re.I), "inner"),
+    (re.compile(r"[-_.]In([0-9]+)[_.]Cu\.[^.]+$", re.I), "inner"),
     (re.compile(r"\.gtl$", re.I), "top"),
     (re.compile(r"\.gbl$", re.I), "bottom"),
-    (re.compile(r"\.g(\d+)$", re.I), "inner"),
+    (re.compile(r"\.g([0-9]+)$", re.I), "inner"),
 )
 
 
@@ -137,36 +144,66 @@ def scan(source, *, max_files: int = MAX_FILES, max_bytes: int = MAX_BYTES) -> F
     """
     path = Path(source)
     if path.is_dir():
-        files = _folder_files(path, max_files, max_bytes)
+        files, skipped = _folder_files(path, max_files, max_bytes)
     elif path.is_file() and zipfile.is_zipfile(path):
-        files = _zip_files(path, max_files, max_bytes)
+        files, skipped = _zip_files(path, max_files, max_bytes)
     elif path.exists():
         raise input_error(path, None, "fabrication source must be a folder or a .zip archive")
     else:
         raise input_error(path, None, "fabrication source not found")
-    return _assign(str(path), files)
+    fab = _assign(str(path), files)
+    return Fabrication(fab.source, fab.copper, fab.drills, tuple(skipped) + fab.lines, fab.contents)
 
 
 # --------------------------------------------------------------------------- sources
 
 def _folder_files(root, max_files, max_bytes):
-    """Return ``[(label, short name, bytes)]`` for every file under ``root``."""
-    paths = []
+    """Return ``[(label, short name, bytes)]`` for every regular file under ``root`` and the
+    lines for the entries skipped."""
+    paths, skipped = [], []
     for folder, dirs, names in os.walk(root):
         dirs.sort()
+        for d in dirs:
+            if os.path.islink(os.path.join(folder, d)):
+                skipped.append(f"skipped {Path(folder, d).relative_to(root).as_posix()}: "
+                               "a symbolic link to a folder (not followed)")
         paths.extend(Path(folder) / n for n in sorted(names))
         if len(paths) > max_files:
             raise input_error(root, None, f"more than {max_files} files; expected a fabrication folder")
-    total = sum(p.stat().st_size for p in paths)
+    regular, total = [], 0
+    for p in paths:
+        short = p.relative_to(root).as_posix()
+        kind = _entry_kind(p)
+        if kind:
+            skipped.append(f"skipped {short}: {kind}, not a regular file")
+            continue
+        regular.append((p, short))
+        total += p.stat().st_size
     if total > max_bytes:
         raise input_error(root, None, f"{total} bytes in all, more than the limit of {max_bytes}")
     out = []
-    for p in paths:
-        try:
-            out.append((str(p), p.relative_to(root).as_posix(), p.read_bytes()))
-        except OSError as exc:
-            raise input_error(p, None, f"cannot read the file: {exc.strerror or exc}") from None
-    return out
+    for p, short in regular:
+        data = read_regular(p, max_bytes=max_bytes - sum(len(d) for _, _, d in out))
+        out.append((str(p), short, data))
+    return out, skipped
+
+
+def _entry_kind(path):
+    """None for a regular file (also behind a symbolic link), else what the entry is."""
+    try:
+        mode = os.stat(path).st_mode
+    except OSError as exc:
+        if os.path.islink(path):
+            return f"a symbolic link that dangles or loops ({exc.strerror or exc})"
+        return f"unreadable ({exc.strerror or exc})"
+    if stat.S_ISREG(mode):
+        return None
+    link = "a symbolic link to " if os.path.islink(path) else ""
+    for test, name in ((stat.S_ISDIR, "a folder"), (stat.S_ISFIFO, "a FIFO"), (stat.S_ISCHR, "a character device"),
+                       (stat.S_ISBLK, "a block device"), (stat.S_ISSOCK, "a socket")):
+        if test(mode):
+            return link + name
+    return link + "a special file"
 
 
 def _zip_files(path, max_files, max_bytes):
@@ -181,10 +218,37 @@ def _zip_files(path, max_files, max_bytes):
             total = sum(info.file_size for info in infos)
             if total > max_bytes:
                 raise input_error(path, None, f"{total} bytes uncompressed, more than the limit of {max_bytes}")
-            return [(f"{path}!{info.filename}", info.filename, zf.read(info))
-                    for info in infos if not info.is_dir()]
-    except (zipfile.BadZipFile, zlib.error, NotImplementedError, RuntimeError, EOFError, OSError) as exc:
+            out, skipped, left = [], [], max_bytes
+            for info in infos:
+                kind = stat.S_IFMT(info.external_attr >> 16) if info.create_system == 3 else 0
+                if info.is_dir():
+                    continue
+                if kind not in (0, stat.S_IFREG):
+                    skipped.append(f"skipped {info.filename}: not a regular file in the archive "
+                                   "(a symbolic link or special file)")
+                    continue
+                data = _read_member(path, zf, info, left, max_bytes)
+                left -= len(data)
+                out.append((f"{path}!{info.filename}", info.filename, data))
+            return out, skipped
+    except (zipfile.BadZipFile, zlib.error, NotImplementedError, RuntimeError, EOFError, OSError,
+            ValueError, OverflowError) as exc:
         raise input_error(path, None, f"cannot read the archive: {exc}") from None
+
+
+def _read_member(path, zf, info, left, max_bytes):
+    """The bytes of one member, read in pieces; refuse once the archive passes ``max_bytes``."""
+    parts, size = [], 0
+    with zf.open(info) as f:
+        while True:
+            chunk = f.read(min(2**20, left - size + 1))
+            if not chunk:
+                return b"".join(parts)
+            size += len(chunk)
+            if size > left:
+                raise input_error(path, None, f"member {info.filename!r} decompresses to more than it "
+                                              f"declares; the archive passes the limit of {max_bytes} bytes")
+            parts.append(chunk)
 
 
 def _check_member(path, name):
@@ -206,7 +270,8 @@ def _assign(source, files):
             ff = tuple(f.strip() for f in m.group(1).split(",")) if m else ()
             if not ff:
                 unnamed.append((label, short, data))
-            elif ff[0] == "Copper" and len(ff) >= 2 and re.fullmatch(r"L\d+", ff[1]):
+            elif ff[0] == "Copper" and len(ff) >= 2 and re.fullmatch(r"L[0-9]+", ff[1]):
+                _check_layer_number(label, ff[1][1:], "copper layer")
                 _claim(source, copper, int(ff[1][1:]), label)
                 contents[label] = data
                 lines.append(f"L{ff[1][1:]} <- {short} (FileFunction {','.join(ff)})")
@@ -236,6 +301,14 @@ def _assign(source, files):
     return Fabrication(source, dict(sorted(copper.items())), tuple(drills), tuple(lines), contents)
 
 
+def _check_layer_number(label, digits, what):
+    """``int(digits)``, refused unless it lies in 1 to MAX_LAYER_NUMBER."""
+    if len(digits) > 6 or not 1 <= int(digits) <= MAX_LAYER_NUMBER:
+        raise input_error(label, None, f"X2 FileFunction {what} number {digits[:20]} out of range; "
+                                       f"expected 1 to {MAX_LAYER_NUMBER}")
+    return int(digits)
+
+
 def _claim(source, copper, layer, label):
     if layer in copper:
         raise input_error(source, None, f"two files claim copper layer L{layer}: {copper[layer]} and {label}")
@@ -246,8 +319,9 @@ def _drill_file(label, short, text):
     m = _TF_DRILL.search(text)
     ff = tuple(f.strip() for f in m.group(1).split(",")) if m else ()
     span = None
-    if len(ff) >= 3 and ff[1].isdigit() and ff[2].isdigit():
-        span = (int(ff[1]), int(ff[2]))
+    if len(ff) >= 3 and re.fullmatch("[0-9]+", ff[1]) and re.fullmatch("[0-9]+", ff[2]):
+        span = (_check_layer_number(label, ff[1], "drill span layer"),
+                _check_layer_number(label, ff[2], "drill span layer"))
     if ff and ff[0] in ("Plated", "NonPlated"):
         plated = ff[0] == "Plated"
     else:
@@ -261,7 +335,8 @@ def _assign_by_name(source, candidates, copper, contents, lines):
         for pattern, side in _NAME_RULES:
             m = pattern.search(short)
             if m:
-                found.append((side, int(m.group(1)) if side == "inner" else 0, label, short, data))
+                k = _check_layer_number(label, m.group(1), "inner layer") if side == "inner" else 0
+                found.append((side, k, label, short, data))
                 break
         else:
             lines.append(f"skipped {short}: Gerber without X2 FileFunction and no copper file name")

@@ -49,6 +49,8 @@ from shapely.errors import GEOSException
 from shapely.geometry import MultiPolygon
 
 from copperpath.geometry.errors import input_error
+from copperpath.geometry.limits import (BOARD_EXTENT, MAX_FILE_BYTES, MAX_GERBER_OBJECTS, MAX_GERBER_VERTICES,
+                             coordinate_ok, read_regular)
 from copperpath.geometry.formats.gerber_macros import (MacroError, chord_count, compile_macro, disk_polygon,
                                             evaluate_macro, rect_polygon, regular_ngon,
                                             segments_per_quarter)
@@ -60,7 +62,6 @@ DEFAULT_CHORD = 1e-6
 
 _UNITS = {"MM": (1e-3, "mm"), "IN": (25.4e-3, "inch")}
 _MAX_COPIES = 100_000       # step-and-repeat copies
-_MAX_OBJECTS = 5_000_000    # objects made by copying (SR, block flashes)
 _MAX_DEPTH = 64             # parentheses in macro expressions, nesting of SR/AB blocks
 
 _TOKEN = re.compile(r"%([^%]*)%|([^%*]*)\*")
@@ -151,19 +152,23 @@ def read_text(text: str, *, name: str = "<string>", chord: float = DEFAULT_CHORD
 
 
 def load_text(path_or_buffer, name=None):
-    """Return ``(text, label)`` for a path or an open file (bytes decoded as UTF-8)."""
+    """Return ``(text, label)`` for a path or an open file (bytes decoded as UTF-8).
+
+    Only regular files are read, and at most :data:`copperpath.geometry.limits.MAX_FILE_BYTES`.
+    """
     if isinstance(path_or_buffer, (str, os.PathLike)):
         label = name or str(path_or_buffer)
-        try:
-            with open(path_or_buffer, "rb") as f:
-                data = f.read()
-        except OSError as exc:
-            raise input_error(label, None, f"cannot read the file: {exc.strerror or exc}") from None
+        data = read_regular(path_or_buffer, label, MAX_FILE_BYTES)
     else:
         label = name or str(getattr(path_or_buffer, "name", "<buffer>"))
-        data = path_or_buffer.read()
+        data = path_or_buffer.read(MAX_FILE_BYTES + 1)
+        if len(data) > MAX_FILE_BYTES:
+            raise input_error(label, None, f"more than the limit of {MAX_FILE_BYTES} bytes")
     if isinstance(data, bytes):
         data = data.decode("utf-8", errors="replace")
+    nul = data.find("\0")
+    if nul >= 0:
+        raise input_error(label, None, f"binary data (a NUL byte at offset {nul}); expected a text file")
     return data, label
 
 
@@ -400,7 +405,8 @@ class _Reader:
         self.stack = [_Context("top")]
         self.attrs, self.warnings = {}, []
         self.line = 0
-        self.copied = 0                 # objects made by SR and block flashes
+        self.objects = 0                # graphics objects made, copies included
+        self.vertices = 0               # their polygon vertices (about)
 
     def error(self, line, message):
         return input_error(f"{self.name}:{line}", None, message)
@@ -434,7 +440,11 @@ class _Reader:
             self.warn(self.line, "file does not end with M02")
         top = self.stack[0]
         self.flush(top)
-        return Artwork(_resolve(top.stream, self.clip), dict(self.attrs), self.unit_name, self.name, tuple(self.warnings))
+        image = _resolve(top.stream, self.clip)
+        if not image.is_empty and not all(coordinate_ok(b) for b in image.bounds):
+            raise self.error(self.line, "the image reaches beyond the board extent "
+                                        f"({BOARD_EXTENT * 1e3:g} mm from the origin in x and y)")
+        return Artwork(image, dict(self.attrs), self.unit_name, self.name, tuple(self.warnings))
 
     # ----------------------------------------------------------- normal words
 
@@ -535,7 +545,11 @@ class _Reader:
             value = int(digits.ljust(n_int + n_dec, "0")) * (-1 if text.startswith("-") else 1)
         else:
             value = int(text)
-        return value * 10.0 ** -n_dec * self.unit
+        value = value * 10.0 ** -n_dec * self.unit
+        if not coordinate_ok(value):
+            raise self.error(line, f"coordinate {text[:20]} lies outside the board extent "
+                                   f"({BOARD_EXTENT * 1e3:g} mm from the origin)")
+        return value
 
     # ----------------------------------------------------------- graphics objects
 
@@ -578,9 +592,11 @@ class _Reader:
         if ap.radius is not None:
             r = ap.radius * self.scale
             if r > 0:
+                self.budget(line, 1, len(pts) + 4 * segments_per_quarter(r, self.tol))
                 self.current_run().lines.setdefault(r, []).append(pts)
         elif ap.outline is not None:
             outline = ap.outline @ self.matrix().T
+            self.budget(line, len(pts) - 1, (len(pts) - 1) * 2 * len(outline))
             run = self.current_run()
             for a, b in zip(pts[:-1], pts[1:]):
                 run.hulls.append(np.concatenate([outline + a, outline + b]))
@@ -595,6 +611,7 @@ class _Reader:
         self.contour = None
         if len(pts) < 3:
             return
+        self.budget(line, 1, len(pts))
         if np.any(pts[0] != pts[-1]):
             gap = float(np.hypot(*(pts[0] - pts[-1])))
             if gap > 10 * self.tol:
@@ -626,15 +643,19 @@ class _Reader:
             template = ap.shape
             if key[1:] != ("N", 0.0, 1.0):
                 template = _affine(template, self.matrix(), np.zeros(2))
+            template = (template, shapely.count_coordinates(template))
             self.templates[key] = template
+        template, n_vertices = template
         if template.is_empty:
             return
+        self.budget(line, 1, n_vertices)
         self.current_run().flashes.setdefault(key, (template, []))[1].append((x, y))
 
     def flash_block(self, ap, x, y):
         ctx = self.stack[-1]
         self.flush(ctx)
-        self.count_copies(self.line, sum(len(g) for _, g in ap.stream))
+        self.budget(self.line, sum(len(g) for _, g in ap.stream),
+                    sum(int(shapely.count_coordinates(g)) for _, g in ap.stream))
         m, off = self.matrix(), np.array([x, y])
         for dark, geoms in ap.stream:
             _append(ctx.stream, dark if self.dark else not dark, _affine(geoms, m, off))
@@ -754,6 +775,10 @@ class _Reader:
             self.apertures[code] = _Aperture("macro", shape)
         else:
             raise self.error(line, f"aperture macro {kind!r} used before definition (D{code})")
+        shape = self.apertures[code].shape
+        if not shape.is_empty and not all(abs(b) <= BOARD_EXTENT for b in shape.bounds):
+            raise self.error(line, f"aperture D{code} is larger than the board extent "
+                                   f"({BOARD_EXTENT * 1e3:g} mm)")
         self.templates = {k: v for k, v in self.templates.items() if k[0] != code}
 
     def standard(self, line, code, kind, p):
@@ -825,7 +850,9 @@ class _Reader:
         self.flush(ctx)
         parent = self.stack[-1]
         nx, ny, dx, dy = ctx.data
-        self.count_copies(line, nx * ny * sum(len(g) for _, g in ctx.stream))
+        copies = nx * ny - 1
+        self.budget(line, copies * sum(len(g) for _, g in ctx.stream),
+                    copies * sum(int(shapely.count_coordinates(g)) for _, g in ctx.stream))
         offsets = [(ix * dx, iy * dy) for iy in range(ny) for ix in range(nx)]
         if all(dark for dark, _ in ctx.stream):
             for _dark, geoms in ctx.stream:     # one polarity: order of copies does not matter
@@ -836,11 +863,16 @@ class _Reader:
             for dark, geoms in ctx.stream:
                 _append(parent.stream, dark, _affine(geoms, np.eye(2), np.array(o)))
 
-    def count_copies(self, line, n):
-        self.copied += n
-        if self.copied > _MAX_OBJECTS:
-            raise self.error(line, f"step and repeat or block apertures make more than {_MAX_OBJECTS} "
-                                   "objects; expected a board-sized image")
+    def budget(self, line, objects, vertices):
+        """Count new objects (copies included); refuse beyond the reader limits."""
+        self.objects += objects
+        self.vertices += vertices
+        if self.objects > MAX_GERBER_OBJECTS:
+            raise self.error(line, f"more than {MAX_GERBER_OBJECTS} graphics objects (after step and "
+                                   "repeat and block flashes); expected a board-sized image")
+        if self.vertices > MAX_GERBER_VERTICES:
+            raise self.error(line, f"more than {MAX_GERBER_VERTICES} polygon vertices (after step and "
+                                   "repeat and block flashes); expected a board-sized image")
 
     def block(self, line, word):
         if word == "AB":

@@ -10,6 +10,8 @@ import re
 import numpy as np
 import shapely
 
+from copperpath.geometry.limits import MAX_MACRO_RINGS
+
 MAX_CHORDS = 4096           # per full circle
 MAX_DEPTH = 64              # parentheses in macro expressions
 
@@ -198,8 +200,10 @@ def _thermal(cx, cy, outer, inner, gap, tol):
 
 def _moire(cx, cy, outer, thick, gap, rings, cross_w, cross_len, tol):
     shape = shapely.union(rect_polygon(cx, cy, cross_len, cross_w), rect_polygon(cx, cy, cross_w, cross_len))
+    if not 0 <= rings <= MAX_MACRO_RINGS:
+        raise ValueError(f"moire with {rings:g} rings; expected 0 to {MAX_MACRO_RINGS}")
     r = outer / 2
-    for _ in range(max(0, min(int(rings), 1000))):
+    for _ in range(int(rings)):
         if r <= 0:
             break
         shape = shape.union(disk_polygon(cx, cy, r, tol).difference(disk_polygon(cx, cy, r - thick, tol)))
