@@ -402,6 +402,8 @@ def _shape(f, keys):
         x0, y0, x1, y1 = f.numbers("rect", f.data["rect"], 4)
         if x0 == x1 or y0 == y1:
             raise f.fail(f"'rect' must have x0 != x1 and y0 != y1, got {_show(f.data['rect'])}")
+        f.check_size("rect width", abs(x1 - x0) * s, abs(x1 - x0))
+        f.check_size("rect height", abs(y1 - y0) * s, abs(y1 - y0))
         return shapes.rect(x0 * s, y0 * s, x1 * s, y1 * s)
     if kind == "polygon":
         shell = f.points("polygon", f.data["polygon"], 3)
@@ -587,6 +589,8 @@ def _window(item):
     if not (x0 < x1 and y0 < y1):
         raise f.fail(f"'rect' must be [x0, y0, x1, y1] with x0 < x1 and y0 < y1 (lower left, then "
                      f"upper right corner), got {_show(f.data['rect'])}")
+    f.check_size("rect width", (x1 - x0) * f.scale, x1 - x0)
+    f.check_size("rect height", (y1 - y0) * f.scale, y1 - y0)
     s = f.scale
     return (x0 * s, y0 * s, x1 * s, y1 * s)
 
