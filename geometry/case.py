@@ -709,6 +709,16 @@ def _check_ports(layout, ports, lumped, port_items):
     return found
 
 
+def _lonely_via_warnings(path, vias, scale, unit):
+    """Warn about vias whose pad touches the copper of no layer: they join nothing."""
+    lonely = [v for v in vias if not v.connects]
+    lines = [f"{path}: via '{v.name}' at ({v.x / scale:g}, {v.y / scale:g}) {unit} touches no copper on "
+             "any layer of its span; it joins nothing" for v in lonely[:MAX_ISLAND_WARNINGS]]
+    if len(lonely) > MAX_ISLAND_WARNINGS:
+        lines.append(f"{path}: {len(lonely) - MAX_ISLAND_WARNINGS} more vias touch no copper")
+    return lines
+
+
 def _island_warnings(path, found, ports, scale, unit):
     if not ports:
         return [f"{path}: no [[port]] given: nothing to solve"]
@@ -825,6 +835,7 @@ def load_case(path, *, read_artwork=None):
                      "the window and are dropped")
     found = _check_ports(layout, ports, lumped, arrays["port"])
     warnings += _island_warnings(path, found, ports, scale, doc["unit"])
+    warnings += _lonely_via_warnings(path, layout.vias, scale, doc["unit"])
     f_lim, d = quasi_static_limit(layout)
     if frequencies.max() > f_lim:
         warnings.append(f"{path}: [sweep]: top frequency {frequencies.max():g} Hz exceeds the "

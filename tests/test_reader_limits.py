@@ -231,3 +231,9 @@ def test_case_file_above_the_size_limit(tmp_path):
     path.write_bytes(GOOD.encode() + b"#" * (4 * 2**20))
     with pytest.raises(InputError, match="more than the limit of 4194304"):
         load_case(path)
+
+
+def test_a_via_outside_any_copper_is_reported(tmp_path):
+    text = GOOD + '\n[[layer]]\nname = "L2"\nz = -1.0\nthickness = 0.035\n\n[[via]]\nname = "v"\nat = [50, 50]\ndrill = 0.3\n'
+    case = load_case(write_case(tmp_path, text))
+    assert [w for w in case.warnings if "via 'v' at (50, 50) mm touches no copper" in w]
