@@ -399,6 +399,8 @@ def _shape(f, keys):
         x0, y0, x1, y1 = f.numbers("rect", f.data["rect"], 4)
         if x0 == x1 or y0 == y1:
             raise f.fail(f"'rect' must have x0 != x1 and y0 != y1, got {_show(f.data['rect'])}")
+        f.check_size("rect width", abs(x1 - x0) * s, abs(x1 - x0))
+        f.check_size("rect height", abs(y1 - y0) * s, abs(y1 - y0))
         return shapes.rect(x0 * s, y0 * s, x1 * s, y1 * s)
     if kind == "polygon":
         shell = f.points("polygon", f.data["polygon"], 3)
@@ -584,6 +586,8 @@ def _window(item):
     if not (x0 < x1 and y0 < y1):
         raise f.fail(f"'rect' must be [x0, y0, x1, y1] with x0 < x1 and y0 < y1 (lower left, then "
                      f"upper right corner), got {_show(f.data['rect'])}")
+    f.check_size("rect width", (x1 - x0) * f.scale, x1 - x0)
+    f.check_size("rect height", (y1 - y0) * f.scale, y1 - y0)
     s = f.scale
     return (x0 * s, y0 * s, x1 * s, y1 * s)
 
@@ -702,6 +706,16 @@ def _check_ports(layout, ports, lumped, port_items):
     return found
 
 
+def _lonely_via_warnings(path, vias, scale, unit):
+    """Warn about vias whose pad touches the copper of no layer: they join nothing."""
+    lonely = [v for v in vias if not v.connects]
+    lines = [f"{path}: via '{v.name}' at ({v.x / scale:g}, {v.y / scale:g}) {unit} touches no copper on "
+             "any layer of its span; it joins nothing" for v in lonely[:MAX_ISLAND_WARNINGS]]
+    if len(lonely) > MAX_ISLAND_WARNINGS:
+        lines.append(f"{path}: {len(lonely) - MAX_ISLAND_WARNINGS} more vias touch no copper")
+    return lines
+
+
 def _island_warnings(path, found, ports, scale, unit):
     if not ports:
         return [f"{path}: no [[port]] given: nothing to solve"]
@@ -818,6 +832,7 @@ def load_case(path, *, read_artwork=None):
                      "the window and are dropped")
     found = _check_ports(layout, ports, lumped, arrays["port"])
     warnings += _island_warnings(path, found, ports, scale, doc["unit"])
+    warnings += _lonely_via_warnings(path, layout.vias, scale, doc["unit"])
     f_lim, d = quasi_static_limit(layout)
     if frequencies.max() > f_lim:
         warnings.append(f"{path}: [sweep]: top frequency {frequencies.max():g} Hz exceeds the "

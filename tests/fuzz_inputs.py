@@ -37,14 +37,22 @@ INSERTS = [b"\x00", b"\xff\xfe", b"9" * 30, b"-", b".", b"e999", b"%", b"*", b"\
 
 
 class Gen(random.Random):
-    """A seeded random source with the few choices the generators need."""
+    """A seeded random source with the few choices the generators need.
+
+    ``hostility`` scales every probability of a hostile value: 0 for half the inputs (clean
+    structure, which reaches the layout and the geometry), up to 1.
+    """
+
+    def __init__(self, seed):
+        super().__init__(seed)
+        self.hostility = self.choice([0, 0, 0, 0.05, 0.2, 1.0])
 
     def chance(self, p):
         return self.random() < p
 
     def maybe(self, good, bad=HOSTILE_VALUES, p=0.08):
         """``good()`` (a callable or a value) most of the time, else a pick from ``bad``."""
-        if self.random() < p:
+        if self.random() < p * self.hostility:
             return self.choice(bad)
         return good() if callable(good) else good
 
@@ -63,7 +71,7 @@ class Gen(random.Random):
 #: One mutation: (where, how, size or payload index), positions as fractions of the text.
 mutation = st.tuples(st.floats(0, 1), st.sampled_from(["delete", "duplicate", "overwrite", "insert", "digit"]),
                      st.integers(0, 40))
-mutations = st.lists(mutation, max_size=3)
+mutations = st.one_of(st.just([]), st.just([]), st.lists(mutation, min_size=1, max_size=3))
 
 
 def mutate(data, muts):
@@ -156,12 +164,13 @@ def _shape(g, kinds):
         return out
     if kind == "circle":
         return {"circle": g.maybe(lambda: {"center": _point(g), "radius": g.maybe(g.positive)})}
-    return {"trace": g.maybe(lambda: {"path": _points(g, 1, 5), "width": g.maybe(g.positive)})}
+    return {"trace": g.maybe(lambda: {"path": _points(g, 2 - g.chance(0.1 * g.hostility), 5),
+                                      "width": g.maybe(g.positive)})}
 
 
 def _sometimes(g, item, extra=None):
     """Drop a key, or add an unknown or an extra one, now and then."""
-    r = g.randint(0, 39)
+    r = g.randint(0, 39) if g.hostility else 99
     if r == 0 and item:
         del item[g.choice(sorted(item))]
     elif r == 1:
@@ -174,11 +183,11 @@ def _sometimes(g, item, extra=None):
 def case_doc(g):
     """A case as a dict of tables (see :func:`toml_text`)."""
     doc = {}
-    if g.chance(0.5):
-        doc["units"] = g.maybe(lambda: g.choice(["mm", "mil", "um", "inch", "m"]), ["cm", 3, ""])
+    if g.chance(0.3):
+        doc["units"] = g.maybe(lambda: g.choice(["mm", "mm", "um", "mil"]), ["cm", 3, "", "m", "inch"])
     if g.chance(0.1):
-        doc["title"] = g.choice(HOSTILE_TEXT)
-    if g.chance(0.05):
+        doc["title"] = g.maybe("a title", HOSTILE_TEXT, 1)
+    if g.chance(0.05 * g.hostility):
         doc["extends"] = g.choice(["base.toml", "case.toml", "nowhere.toml", "a\u0000b", "fifo"])
     names = [f"L{k + 1}" for k in range(g.randint(1, 3))]
     layers = []
@@ -188,7 +197,7 @@ def case_doc(g):
             la["conductivity"] = g.maybe(lambda: g.choice([5.8e7, 1e6]), p=0.5)
         if g.chance(0.12):
             la["sublayers"] = g.maybe(lambda: g.choice(["auto", 1, 2]), p=0.4)
-        if g.chance(0.06):
+        if g.chance(0.06 * g.hostility):
             la["artwork"] = g.choice(["top.gbr", "vias.drl", "missing.gbr", "fifo"])
         layers.append(_sometimes(g, la))
     doc["layer"] = layers
@@ -197,25 +206,31 @@ def case_doc(g):
         return g.maybe(lambda: g.choice(names), ["L9", 1, ""], 0.03)
 
     def term():
-        return g.maybe(lambda: f"T{g.randint(0, 2)}", ["Z", 5], 0.03)
-    doc["copper"] = [_sometimes(g, {"layer": layer(), **_shape(g, ["rect", "rect", "polygon", "circle", "trace"]),
-                                    **({"clear": g.maybe(g.chance(0.5))} if g.chance(0.2) else {})},
-                                {"rect": [0, 0, 1, 1]})
-                     for _ in range(g.randint(0, 4))]
-    doc["terminal"] = [_sometimes(g, {"name": g.maybe(f"T{k}", HOSTILE_TEXT, 0.03), "layer": layer(),
-                                      **_shape(g, ["rect", "rect", "circle", "polygon"])})
-                       for k in range(g.randint(0, 3))]
-    doc["port"] = [_sometimes(g, {"plus": term(), "minus": term()}) for _ in range(g.randint(0, 2))]
+        return g.maybe(lambda: g.choice(["T0", "T1", "T0", "T1", "T2"]), ["Z", 5], 0.03)
+    length, width = g.randint(2, 40) / 2, g.randint(2, 10) / 2      # a strip on every layer
+    doc["copper"] = [{"layer": nm, "rect": [0, 0, g.maybe(length), g.maybe(width)]} for nm in names]
+    doc["copper"] += [_sometimes(g, {"layer": layer(), **_shape(g, ["rect", "rect", "polygon", "circle", "trace"]),
+                                     **({"clear": g.maybe(g.chance(0.5))} if g.chance(0.2) else {})},
+                                 {"rect": [0, 0, 1, 1]})
+                      for _ in range(g.randint(0, 3))]
+    ends = [[0, 0, 0.5, width], [length - 0.5, 0, length, width]]
+    doc["terminal"] = [{"name": f"T{k}", "layer": g.choice(names), "rect": g.maybe(ends[k])} for k in range(2)]
+    doc["terminal"] += [_sometimes(g, {"name": g.maybe(f"T{k}", HOSTILE_TEXT, 0.03), "layer": layer(),
+                                       **_shape(g, ["rect", "rect", "circle", "polygon"])})
+                        for k in range(2, 2 + g.chance(0.3))]
+    doc["port"] = [{"name": "p", "plus": "T0", "minus": "T1"}]
+    doc["port"] += [_sometimes(g, {"plus": term(), "minus": term()}) for _ in range(g.chance(0.2))]
     vias = []
     for _ in range(g.randint(0, 3)):
-        v = {"at": _point(g), "drill": g.maybe(0.3)}
+        v = {"at": g.maybe(lambda: [g.randint(0, int(length * 10)) / 10, width / 2]),
+             "drill": g.maybe(lambda: g.choice([0.3, 0.2, 0.5]))}
         if g.chance(0.25):
             v["pad"] = g.maybe(0.6)
         if g.chance(0.25):
             v["layers"] = g.maybe(lambda: g.sample(names, g.randint(1, len(names))))
         if g.chance(0.25):
             v["array"] = g.maybe(lambda: {
-                "pitch": [g.maybe(lambda: g.choice([1.0, -1.0, 0.5, 0.0])) for _ in range(2)],
+                "pitch": [g.maybe(lambda: g.choice([1.0, -1.0, 0.6, 0.0])) for _ in range(2)],
                 "count": [g.maybe(lambda: g.randint(1, 4), [0, 10**5, 10**9, 2.5], 0.2) for _ in range(2)]})
         vias.append(_sometimes(g, v))
     doc["via"] = vias
@@ -225,20 +240,22 @@ def case_doc(g):
     if g.chance(0.25):
         if g.chance(0.5):
             doc["sweep"] = {"frequencies": g.maybe(lambda: [g.maybe(lambda: g.choice([0, 1e3, 1e6]))
-                                                            for _ in range(g.randint(0, 4))])}
+                                                            for _ in range(g.randint(1, 4))])}
         else:
             doc["sweep"] = {"start": g.maybe(1e3), "stop": g.maybe(1e8), "points": g.maybe(lambda: g.randint(1, 6))}
     if g.chance(0.15):
         doc["mesh"] = {"max_edge": g.maybe(0.5), "min_edge": g.maybe(0.05)}
     if g.chance(0.15):
-        doc["window"] = {"rect": g.maybe(lambda: [g.num() for _ in range(4)])}
+        x0, y0 = g.randint(-20, 20) / 4, g.randint(-20, 20) / 4
+        doc["window"] = {"rect": g.maybe(lambda: [g.maybe(v) for v in (x0, y0, x0 + g.randint(1, 40) / 4,
+                                                                        y0 + g.randint(1, 40) / 4)])}
     if g.chance(0.1):
         doc["solver"] = {"method": g.maybe(lambda: g.choice(["auto", "dense", "fast"])), "tolerance": g.maybe(1e-4)}
     if g.chance(0.1):
         doc["circuit"] = {"current": g.maybe(10.0, p=0.3), "rise_time": g.maybe(1e-8, p=0.3)}
-    if g.chance(0.05):
+    if g.chance(0.05 * g.hostility):
         doc["drill"] = [{"file": g.choice(["vias.drl", "top.gbr", "fifo", "missing.drl"])}]
-    if g.chance(0.03):
+    if g.chance(0.03 * g.hostility):
         doc["fabrication"] = {"source": g.choice(["fab", "fab.zip", "fifo", "top.gbr"])}
     return doc
 

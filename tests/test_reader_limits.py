@@ -207,3 +207,33 @@ def test_cli_refuses_an_expanding_drill_file_with_one_line(tmp_path, capsys):
     status = main(["inspect", str(path)])
     err = capsys.readouterr().err.strip().splitlines()
     assert status == 2 and len(err) == 1 and "more than 1000000 drill hits" in err[0]
+
+
+def test_gerber_vertex_limit_counts_the_copies_of_large_apertures():
+    """3 flashes of a 100 mm disk (about 500 chords at 1 um) copied 100,000 times: 1.5e8 vertices."""
+    text = ("%FSLAX46Y46*%\n%MOMM*%\n%ADD10C,100*%\nD10*\n%SRX1000Y100I0.001J0.001*%\n"
+            "X0Y0D03*\nX1000Y0D03*\nX2000Y0D03*\n%SR*%\nM02*\n")
+    with pytest.raises(InputError, match="more than 100000000 polygon vertices"):
+        gerber.read(io.StringIO(text), name="t.gbr")
+
+
+def test_drill_file_with_more_holes_than_the_via_limit(tmp_path, monkeypatch):
+    from copperpath.geometry.formats import board
+    monkeypatch.setattr(board, "MAX_VIAS", 2)
+    text = GOOD + '\n[[layer]]\nname = "L2"\nz = -1.0\nthickness = 0.035\n\n[[drill]]\nfile = "v.drl"\n'
+    path = write_case(tmp_path, text, {"v.drl": "M48\nMETRIC\nT1C0.3\n%\nT1\nX1.0Y0.5\nX2.0Y0.5\nX3.0Y0.5\nM30\n"})
+    with pytest.raises(InputError, match="v.drl: 3 plated holes and slots, more than the limit of 2 vias"):
+        load_case(path)
+
+
+def test_case_file_above_the_size_limit(tmp_path):
+    path = tmp_path / "case.toml"
+    path.write_bytes(GOOD.encode() + b"#" * (4 * 2**20))
+    with pytest.raises(InputError, match="more than the limit of 4194304"):
+        load_case(path)
+
+
+def test_a_via_outside_any_copper_is_reported(tmp_path):
+    text = GOOD + '\n[[layer]]\nname = "L2"\nz = -1.0\nthickness = 0.035\n\n[[via]]\nname = "v"\nat = [50, 50]\ndrill = 0.3\n'
+    case = load_case(write_case(tmp_path, text))
+    assert [w for w in case.warnings if "via 'v' at (50, 50) mm touches no copper" in w]
