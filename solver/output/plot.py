@@ -22,8 +22,11 @@ from copperpath.solver.analysis import post
 from copperpath.solver.output.files import atomic_path
 from copperpath.solver.output.formatting import format_frequency
 
-CMAPS = {"current": "magma", "inductance": "cividis", "loss": "inferno", "potential": "viridis"}
-"""Colour map of each kind of map (matplotlib names; all perceptually uniform)."""
+CMAPS = {"current": "magma", "inductance": "berlin", "loss": "inferno", "potential": "viridis"}
+"""Colour map of each kind of map (matplotlib names; all perceptually uniform; ``berlin`` is a
+diverging map for signed inductance shares, zero at its dark centre)."""
+LOSS_DECADES = 3.0
+"""Range of the logarithmic loss-share scale below its maximum."""
 LOG_DECADES = 2.0
 """Range of the logarithmic current-density scale below its maximum."""
 ARROWS_ACROSS = 28
@@ -50,6 +53,13 @@ def _layer_view(mesh, layer_index):
     tris = np.flatnonzero(mesh.tri_layer == layer_index)
     used, local = np.unique(mesh.triangles[tris], return_inverse=True)
     return tris, mesh.points[used], local.reshape(-1, 3)
+
+
+def _board_extent(mesh):
+    """Lower-left and upper-right corner (metres) of the copper of every layer: every map of a
+    case shares it, so that layers line up."""
+    used = mesh.points[np.unique(mesh.triangles)] if mesh.n_triangles else mesh.points
+    return used.min(axis=0), used.max(axis=0)
 
 
 def _boundary_segments(points, local):
@@ -87,7 +97,6 @@ def _arrows(ax, points, local, tris, vectors, bulk, scale):
 def _decorate(ax, mesh, case, layer_index, tris, points, local, markers, shade):
     """Outline, terminals and via pads (grey where ``shade``), drills, markers, scale bar, labels."""
     from matplotlib.collections import LineCollection, PolyCollection
-    from mpl_toolkits.axes_grid1.anchored_artists import AnchoredSizeBar
 
     scale, unit = case.unit_scale, case.unit
     layer = mesh.layer_names[layer_index]
@@ -95,8 +104,8 @@ def _decorate(ax, mesh, case, layer_index, tris, points, local, markers, shade):
     inside = region >= 0
     if inside.any() and shade:
         polys = points[local[inside]] / scale
-        ax.add_collection(PolyCollection(polys, facecolors="#c8c8c8", edgecolors="#c8c8c8",
-                                         linewidths=0.2, hatch="////", zorder=2))
+        ax.add_collection(PolyCollection(polys, facecolors="#d4d4d4", edgecolors="#8c8c8c",
+                                         linewidths=0.0, hatch="////", zorder=2))
     if inside.any():
         cent = mesh.centroids[tris] / scale
         for r in np.unique(region[inside]):
@@ -116,13 +125,24 @@ def _decorate(ax, mesh, case, layer_index, tris, points, local, markers, shade):
             ax.text(b.x / scale, b.y / scale, str(n), ha="center", va="center", fontsize=9,
                     fontweight="bold", color="black", zorder=7,
                     bbox={"boxstyle": "circle,pad=0.25", "fc": "#ffffffdd", "ec": "#0066cc", "lw": 1.5})
-    lo, hi = points.min(axis=0) / scale, points.max(axis=0) / scale
+    for other in range(len(mesh.layer_names)):             # the other layers, for lining up
+        if other == layer_index or not (mesh.tri_layer == other).any():
+            continue
+        _, opts, olocal = _layer_view(mesh, other)
+        ax.add_collection(LineCollection(_boundary_segments(opts, olocal) / scale, colors="#9a9a9a",
+                                         linewidths=0.5, linestyles=(0, (3, 2)), zorder=0.5))
+    lo, hi = (c / scale for c in _board_extent(mesh))
     length = _nice_length(max(hi - lo))
-    ax.add_artist(AnchoredSizeBar(ax.transData, length, f"{length:g} {unit}", "lower right",
-                                  pad=0.4, borderpad=0.6, sep=3, frameon=True, size_vertical=0))
     pad = 0.04 * max(hi - lo)
+    band = 0.08 * max(hi - lo)                             # below the copper: the scale bar
+    x1, y0 = hi[0], lo[1] - pad - 0.55 * band
+    ax.plot([x1 - length, x1], [y0, y0], color="black", lw=2.0, solid_capstyle="butt", zorder=6)
+    ax.text(x1 - 0.5 * length, y0 + 0.12 * band, f"{length:g} {unit}", ha="center", va="bottom",
+            fontsize=8, zorder=6)
+    ax.text(lo[0], y0 + 0.12 * band, "dashed grey: copper outline of the other layers",
+            ha="left", va="bottom", fontsize=7, color="#666666", zorder=6)
     ax.set_xlim(lo[0] - pad, hi[0] + pad)
-    ax.set_ylim(lo[1] - pad - 0.12 * (hi[1] - lo[1] + pad), hi[1] + pad)
+    ax.set_ylim(lo[1] - pad - band, hi[1] + pad)
     ax.set_aspect("equal")
     ax.set_xlabel(f"x ({unit})")
     ax.set_ylabel(f"y ({unit})")
@@ -134,16 +154,19 @@ def _circle(x, y, r):
     return Circle((x, y), r, facecolor="white", edgecolor="black", linewidth=0.6, zorder=5)
 
 
-def _figure(points):
+def _figure(mesh):
+    """A figure sized to the board's aspect ratio (the same for every layer of a case)."""
     from matplotlib.figure import Figure
 
-    span = np.ptp(points, axis=0)
+    lo, hi = _board_extent(mesh)
+    span = hi - lo
     aspect = float(np.clip(span[1] / max(span[0], 1e-300), 0.12, 1.5))
-    return Figure(figsize=(8.0, 1.2 + 6.4 * aspect))
+    return Figure(figsize=(8.0, 1.6 + 6.4 * aspect))
 
 
 def layer_map(path, mesh, case, values, *, layer_index, title, label, cmap, log=False,
-              mask_regions=True, vectors=None, markers=(), note=None):
+              mask_regions=True, vectors=None, markers=(), note=None, symmetric=False,
+              decades=LOG_DECADES):
     """Draw one per-triangle quantity on one layer and save it as a PNG.
 
     Parameters
@@ -161,7 +184,7 @@ def layer_map(path, mesh, case, values, *, layer_index, title, label, cmap, log=
     cmap : str
         matplotlib colour map name.
     log : bool
-        Logarithmic colour scale over :data:`LOG_DECADES` below the maximum.
+        Logarithmic colour scale over ``decades`` below the maximum.
     mask_regions : bool
         Shade terminal and via-pad triangles grey instead of colouring them.
     vectors : ndarray of complex, shape (M, 2), optional
@@ -170,6 +193,10 @@ def layer_map(path, mesh, case, values, *, layer_index, title, label, cmap, log=
         Numbered in order, on their layer.
     note : str, optional
         A line of small text under the axes.
+    symmetric : bool
+        A colour scale symmetric about zero (for signed values on a diverging map).
+    decades : float
+        Range of a logarithmic scale below its maximum.
 
     Returns
     -------
@@ -184,13 +211,16 @@ def layer_map(path, mesh, case, values, *, layer_index, title, label, cmap, log=
     show = bulk[tris] if mask_regions else np.ones(len(tris), bool)
     shown = vals[show]
     top = float(np.nanmax(shown)) if shown.size else 0.0
-    if log and top > 0:
-        norm = LogNorm(vmin=top * 10.0**-LOG_DECADES, vmax=top)
+    if symmetric:
+        big = float(np.nanmax(np.abs(shown))) if shown.size else 0.0
+        norm = Normalize(vmin=-big if big > 0 else -1.0, vmax=big if big > 0 else 1.0)
+    elif log and top > 0:
+        norm = LogNorm(vmin=top * 10.0**-decades, vmax=top)
         vals = np.clip(vals, norm.vmin, None)
     else:
         low = float(np.nanmin(shown)) if shown.size else 0.0
         norm = Normalize(vmin=min(low, 0.0) if not log else 0.0, vmax=top if top > low else low + 1.0)
-    fig = _figure(points)
+    fig = _figure(mesh)
     ax = fig.add_subplot()
     coll = ax.tripcolor(points[:, 0] / scale, points[:, 1] / scale, local[show],
                         facecolors=vals[show], cmap=cmap, norm=norm, edgecolors="none", zorder=1)
@@ -218,42 +248,46 @@ def current_density_map(path, mesh, case, maps, *, layer_index, markers=(), log=
     layer = mesh.layer_names[layer_index]
     mag = np.sqrt((np.abs(maps.current_density) ** 2).sum(axis=1)) * 1e-3
     scale_word = "log scale" if log else "linear scale"
+    on = mag[(mesh.tri_layer == layer_index) & (mesh.tri_region < 0)]
+    peak = float(on.max()) if on.size else 0.0
+    span = (f"Colour scale: {LOG_DECADES:g} decades below this map's maximum, {peak:.3g} A/mm "
+            f"(each frequency has its own maximum: read values on the colour bar). " if log else "")
     return layer_map(path, mesh, case, mag, layer_index=layer_index, log=log,
                      title=f"{_head(maps, layer)}: sheet current density |J| in A/mm per A ({scale_word})",
                      label="|J| (A/mm per A of port current)", cmap=CMAPS["current"],
                      vectors=maps.current_density, markers=markers,
-                     note="Arrows: current direction (in phase with the port current). "
+                     note=span + "Arrows: current direction (in phase with the port current). "
                           "Grey hatched: terminals and via pads (equipotential). "
                           "Numbers: bottlenecks.")
 
 
-def _negative_note(share, total_unit, unit_name):
-    neg = -share[share < 0].sum()
-    pos = share[share > 0].sum()
-    if pos > 0 and neg > 0.01 * pos:
-        return (f"Negative shares (currents opposing the loop, e.g. eddy currents; "
-                f"{neg * total_unit:.3g} {unit_name} in all) shown at the bottom of the scale. ")
-    return ""
+def _signed_note(share):
+    """What the signed shares of a layer add up to, in nH."""
+    pos, neg = share[share > 0].sum() * 1e9, -share[share < 0].sum() * 1e9
+    return (f"Signed: positive where the current adds to the loop inductance ({pos:.4g} nH on this "
+            f"layer), negative where opposing currents such as eddy currents in a pour cancel part "
+            f"of it ({neg:.4g} nH). ")
 
 
 def inductance_share_map(path, mesh, case, maps, *, layer_index, markers=()):
     """Inductance share per area (nH/mm^2 per A^2 of port current); see :func:`layer_map`."""
     layer = mesh.layer_names[layer_index]
     on_layer = maps.inductance_share[mesh.tri_layer == layer_index].sum()
-    note = (_negative_note(maps.inductance_share[mesh.tri_layer == layer_index], 1e9, "nH")
-            + f"This layer holds {on_layer * 1e9:.4g} nH of the port's {maps.inductance * 1e9:.4g} nH."
-            " Shown smoothed over neighbouring triangles. Numbers: bottlenecks.")
+    note = (_signed_note(maps.inductance_share[mesh.tri_layer == layer_index])
+            + f"This layer holds {on_layer * 1e9:.4g} nH net of the port's "
+            f"{maps.inductance * 1e9:.4g} nH. Shown smoothed over neighbouring triangles. "
+            "Numbers: bottlenecks.")
     # Per-edge energy shares scatter from triangle to triangle; show them smoothed as the
-    # bottleneck finder ranks them (post.smoothed_density), with the colour scale's top at the
-    # 99.5th percentile so that one hot triangle does not darken the rest.
+    # bottleneck finder ranks them (post.smoothed_density), signed on a diverging scale whose
+    # ends sit at the 99.5th percentile of |share| so that one hot triangle does not flatten the rest.
     bulk = mesh.tri_region < 0
-    shown = post.smoothed_density(mesh, np.clip(maps.inductance_share, 0.0, None), mask=bulk) * 1e3
-    on = shown[(mesh.tri_layer == layer_index) & bulk]
-    top = float(np.percentile(on, 99.5)) if on.size else None
-    return layer_map(path, mesh, case, np.clip(shown, 0.0, top), layer_index=layer_index,
+    shown = post.smoothed_density(mesh, maps.inductance_share, mask=bulk) * 1e3
+    on = np.abs(shown[(mesh.tri_layer == layer_index) & bulk])
+    top = float(np.percentile(on, 99.5)) if on.size else 0.0
+    return layer_map(path, mesh, case, np.clip(shown, -top, top), layer_index=layer_index,
                      title=f"{_head(maps, layer)}: inductance share in nH/mm$^2$ (where the loop L lives)",
-                     label="inductance share (nH/mm$^2$)", cmap=CMAPS["inductance"],
-                     markers=markers, note=note)
+                     label="signed inductance share (nH/mm$^2$)", cmap=CMAPS["inductance"],
+                     markers=markers, note=note, symmetric=True)
 
 
 def loss_share_map(path, mesh, case, maps, *, layer_index, markers=()):
@@ -262,8 +296,10 @@ def loss_share_map(path, mesh, case, maps, *, layer_index, markers=()):
     density = maps.resistance_share / mesh.areas * 1e-3         # ohm/m^2 -> mohm/mm^2
     on_layer = maps.resistance_share[mesh.tri_layer == layer_index].sum()
     note = (f"This layer holds {on_layer * 1e3:.4g} mohm of the port's "
-            f"{maps.resistance * 1e3:.4g} mohm (mW per A^2 of port current).")
-    return layer_map(path, mesh, case, density, layer_index=layer_index,
+            f"{maps.resistance * 1e3:.4g} mohm (mW per A^2 of port current). Log scale over "
+            f"{LOSS_DECADES:g} decades below the maximum.")
+    return layer_map(path, mesh, case, density, layer_index=layer_index, log=True,
+                     decades=LOSS_DECADES,
                      title=f"{_head(maps, layer)}: ohmic loss share in m$\\Omega$/mm$^2$",
                      label="loss share (m$\\Omega$/mm$^2$ = mW/mm$^2$ at 1 A)", cmap=CMAPS["loss"],
                      markers=markers, note=note)
