@@ -14,7 +14,6 @@ import traceback
 import warnings
 from pathlib import Path
 
-import numpy as np
 
 import copperpath
 from copperpath.geometry.errors import InputError
@@ -152,45 +151,16 @@ def _cmd_inspect(args):
     return 0
 
 
-def _side_by_side(out, solved, comparison):
-    """Current-density maps of the compared port, one panel per case, one colour scale, on every
-    layer that the port's plus terminal or any case's copper uses; returns (path, caption) pairs."""
-    from copperpath.solver.analysis import post
-    from copperpath.solver.output.maps import map_frequencies, safe_name
-    from copperpath.solver.output.plot import format_frequency, side_by_side_map
-
-    panels, layers, freq = [], [], None
-    for sol in solved:
-        case, mesh, system, result = sol.case, sol.mesh, sol.system, sol.result
-        k = list(result.ports).index(comparison.port)
-        _, fmap, _, _ = map_frequencies(mesh, case, result)
-        fi = fmap if fmap is not None else 0
-        maps = post.port_maps(mesh, system, result, freq_index=fi, port_index=k,
-                              layout=case.layout, lumped=case.lumped)
-        freq = result.frequencies[fi] if freq is None else freq
-        j = np.abs(maps.current_density)
-        magnitude = np.sqrt((j ** 2).sum(axis=1)) * 1e-3          # A/m -> A/mm
-        panels.append((f"{case.title}\n{format_frequency(result.frequencies[fi])}", mesh, case,
-                       magnitude, maps.current_density))
-        layers += [name for k, name in enumerate(mesh.layer_names)
-                   if name not in layers and (mesh.tri_layer == k).any()]
-    images = []
-    for layer in layers:
-        path = Path(out) / "maps" / f"compare_{safe_name(comparison.port)}_{safe_name(layer)}_J.png"
-        side_by_side_map(path, panels, layer=layer,
-                         title=f"Port {comparison.port}, layer {layer}: sheet current density |J| "
-                               f"(one colour scale for all variants)",
-                         label="|J| (A/mm per A of port current)")
-        images.append((path, f"Layer {layer}: |J| of port {comparison.port} in each variant, "
-                             f"one shared logarithmic colour scale."))
-    return images
-
-
 def compare_cases(case_paths, out, *, port=None, quiet=False):
-    """Solve each case into ``out/<case name>/`` and compare them; returns the comparison."""
-    from copperpath.solver.analysis.compare import resolve_port
-    from copperpath.solver.output.comparison import comparison_sections, format_comparison
+    """Solve each case into ``out/<case name>/`` and compare them; returns the comparison.
+
+    Of each solved variant only what the comparison shows is kept (:class:`VariantView`); its
+    matrices and currents are released before the next variant is solved.
+    """
+    from copperpath.solver.analysis.compare import compare, resolve_port
+    from copperpath.solver.output.comparison import comparison_sections, format_comparison, short_titles
     from copperpath.solver.output.report import write_comparison_report
+    from copperpath.solver.output.variants import side_by_side_images, variant_sections, variant_view
 
     cases = [_load(p, named=True) for p in case_paths]
     stems = [Path(c.path).stem for c in cases]
@@ -198,17 +168,23 @@ def compare_cases(case_paths, out, *, port=None, quiet=False):
         raise InputError("compare: two cases share a file name; their outputs would overwrite "
                          "each other (rename one)")
     port = resolve_port(cases, port)            # a missing port is reported before any solve
-    solved = []
+    views, triples = [], []
     for case in cases:
         if not quiet:
             print(f"solving {Path(case.path).name} ...", flush=True)
-        solution, _ = run_case(case, Path(out) / Path(case.path).stem, quiet=quiet)
-        solved.append(solution)
-    comparison = copperpath.compare(solved, port=port)
+        solution, summary = run_case(case, Path(out) / Path(case.path).stem, quiet=quiet)
+        view = variant_view(solution.case, solution.mesh, solution.system, solution.result, port)
+        del solution
+        views.append(view)
+        triples.append((view.case, view.result, summary))
+    comparison = compare(triples, port=port)
     text = format_comparison(comparison)
-    images = _side_by_side(out, solved, comparison)
-    write_comparison_report(out, f"Layout variants compared on port {comparison.port}",
-                            comparison_sections(comparison), images)
+    _, titles = short_titles([c.title for c in comparison.cases])
+    images = side_by_side_images(out, views, titles)
+    sections = comparison_sections(comparison) + variant_sections(
+        views, titles, lambda v: Path(v.case.path).stem)
+    write_comparison_report(out, f"Layout variants compared on port {comparison.port}", sections,
+                            images)
     return comparison, text
 
 

@@ -94,8 +94,9 @@ def _arrows(ax, points, local, tris, vectors, bulk, scale):
               linewidth=0.4, width=0.004, headwidth=4.0, headlength=4.5, zorder=4)
 
 
-def _decorate(ax, mesh, case, layer_index, tris, points, local, markers, shade):
-    """Outline, terminals and via pads (grey where ``shade``), drills, markers, scale bar, labels."""
+def _decorate(ax, mesh, case, layer_index, tris, points, local, markers, shade, frame=True):
+    """Outline, terminals and via pads (grey where ``shade``), drills, markers, labels and, with
+    ``frame``, the scale bar and the board's extent (side-by-side panels set their own)."""
     from matplotlib.collections import LineCollection, PolyCollection
 
     scale, unit = case.unit_scale, case.unit
@@ -131,6 +132,11 @@ def _decorate(ax, mesh, case, layer_index, tris, points, local, markers, shade):
         _, opts, olocal = _layer_view(mesh, other)
         ax.add_collection(LineCollection(_boundary_segments(opts, olocal) / scale, colors="#9a9a9a",
                                          linewidths=0.5, linestyles=(0, (3, 2)), zorder=0.5))
+    ax.set_xlabel(f"x ({unit})")
+    ax.set_ylabel(f"y ({unit})")
+    ax.set_aspect("equal")
+    if not frame:
+        return
     lo, hi = (c / scale for c in _board_extent(mesh))
     length = _nice_length(max(hi - lo))
     pad = 0.04 * max(hi - lo)
@@ -143,9 +149,6 @@ def _decorate(ax, mesh, case, layer_index, tris, points, local, markers, shade):
             ha="left", va="bottom", fontsize=7, color="#666666", zorder=6)
     ax.set_xlim(lo[0] - pad, hi[0] + pad)
     ax.set_ylim(lo[1] - pad - band, hi[1] + pad)
-    ax.set_aspect("equal")
-    ax.set_xlabel(f"x ({unit})")
-    ax.set_ylabel(f"y ({unit})")
 
 
 def _circle(x, y, r):
@@ -375,7 +378,7 @@ def impedance_plot(path, result, port_index, *, f_limit=None):
     return path
 
 
-def side_by_side_map(path, panels, *, layer, title, label, cmap="magma", log=True):
+def side_by_side_map(path, panels, *, layer, title, label, cmap="magma", log=True, symmetric=False):
     """One per-triangle quantity of several cases on one layer, side by side, with one shared
     colour scale (for comparing layout variants).
 
@@ -393,6 +396,8 @@ def side_by_side_map(path, panels, *, layer, title, label, cmap="magma", log=Tru
     cmap : str
     log : bool
         Logarithmic scale over :data:`LOG_DECADES` below the largest value of all panels.
+    symmetric : bool
+        A linear scale symmetric about zero (signed values on a diverging map).
 
     Returns
     -------
@@ -413,10 +418,15 @@ def side_by_side_map(path, panels, *, layer, title, label, cmap="magma", log=Tru
                       np.asarray(values, float)[tris], vectors))
     shown = [v[8][v[7]] for v in views if v is not None and v[7].any()]
     top = max((float(np.nanmax(s)) for s in shown), default=1.0)
-    norm = (LogNorm(vmin=top * 10.0**-LOG_DECADES, vmax=top) if log and top > 0
-            else Normalize(vmin=0.0, vmax=top))
-    boxes = [np.concatenate([v[5].min(axis=0), v[5].max(axis=0)]) / v[2].unit_scale
-             for v in views if v is not None]
+    if symmetric:      # ends at the 99.5th percentile of |value| over all panels
+        big = max((float(np.percentile(np.abs(s), 99.5)) for s in shown if s.size), default=1.0)
+        big = big if big > 0 else 1.0
+        norm = Normalize(vmin=-big, vmax=big)
+        views = [v if v is None else v[:8] + (np.clip(v[8], -big, big),) + v[9:] for v in views]
+    else:
+        norm = (LogNorm(vmin=top * 10.0**-LOG_DECADES, vmax=top) if log and top > 0
+                else Normalize(vmin=0.0, vmax=top))
+    boxes = [np.concatenate(_board_extent(v[1])) / v[2].unit_scale for v in views if v is not None]
     lo = np.min([b[:2] for b in boxes], axis=0)
     hi = np.max([b[2:] for b in boxes], axis=0)
     pad = 0.04 * (hi - lo).max()
@@ -439,7 +449,7 @@ def side_by_side_map(path, panels, *, layer, title, label, cmap="magma", log=Tru
                             facecolors=vals[show], cmap=cmap, norm=norm, edgecolors="none", zorder=1)
         if vectors is not None:
             _arrows(ax, points, local, tris, np.asarray(vectors), mesh.tri_region < 0, scale)
-        _decorate(ax, mesh, case, index, tris, points, local, (), True)
+        _decorate(ax, mesh, case, index, tris, points, local, (), True, frame=False)
         ax.set_xlim(lo[0] - pad, hi[0] + pad)          # one extent for every panel
         ax.set_ylim(lo[1] - pad, hi[1] + pad)
         ax.set_title(panel_title, fontsize=9)
