@@ -204,7 +204,7 @@ def _artwork_base(geom, box, grid_size):
     if geom is None:
         return Polygon()
     if box is not None:
-        geom = shapely.clip_by_rect(geom, *box.bounds)
+        geom = as_multipolygon(shapely.clip_by_rect(geom, *box.bounds))
     if shapely.is_valid(geom):
         return geom                         # a large layer: snapped by the next operation
     return shapely.union_all([geom], grid_size=grid_size)
