@@ -145,6 +145,7 @@ def _apply_shapes(base, shapes, grid_size):
             current = shapely.difference(current, run_geom, grid_size=grid_size)
         else:
             current = shapely.union_all([current, run_geom], grid_size=grid_size)
+        current = as_multipolygon(current)
     return current
 
 
@@ -184,14 +185,18 @@ def _add_vias(copper, layers, vias, grid_size):
 
 
 def _crop(geom, box, grid_size):
-    """``geom`` cropped to the window ``box`` (None: no window); skipped when it lies inside."""
+    """``geom`` cropped to the window ``box`` (None: no window); skipped when it lies inside.
+
+    Only the polygonal part is kept: copper that meets the window along an edge leaves a line,
+    and a polygon-and-line collection is refused by the next overlay.
+    """
     if box is None or geom.is_empty:
         return geom
     x0, y0, x1, y1 = geom.bounds
     b0, c0, b1, c1 = box.bounds
     if b0 <= x0 and c0 <= y0 and x1 <= b1 and y1 <= c1:
         return geom
-    return shapely.intersection(geom, box, grid_size=grid_size)
+    return as_multipolygon(shapely.intersection(geom, box, grid_size=grid_size))
 
 
 def _artwork_base(geom, box, grid_size):
@@ -199,7 +204,7 @@ def _artwork_base(geom, box, grid_size):
     if geom is None:
         return Polygon()
     if box is not None:
-        geom = shapely.clip_by_rect(geom, *box.bounds)
+        geom = as_multipolygon(shapely.clip_by_rect(geom, *box.bounds))
     if shapely.is_valid(geom):
         return geom                         # a large layer: snapped by the next operation
     return shapely.union_all([geom], grid_size=grid_size)

@@ -32,8 +32,9 @@ MAX_GERBER_OBJECTS = 2_000_000
 MAX_GERBER_VERTICES = 100_000_000
 #: Most rings of a moire macro primitive.
 MAX_MACRO_RINGS = 100
-#: Most drill hits plus slots in one Excellon file after repeat commands.
-MAX_DRILL_HITS = 1_000_000
+#: Most drill hits plus slots in one Excellon file after repeat commands (twice the via limit:
+#: non-plated holes are not vias).
+MAX_DRILL_HITS = 200_000
 #: Largest Gerber or Excellon file in bytes (100 MiB).
 MAX_FILE_BYTES = 100 * 2**20
 #: Largest case file in bytes (4 MiB).

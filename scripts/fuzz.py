@@ -39,7 +39,7 @@ def _reader_runs(folder):
     }
 
 
-def fuzz(name, strategy, run, n, max_seconds):
+def fuzz(name, strategy, run, n, max_seconds, save):
     counts, refusals, failures, slowest = collections.Counter(), collections.Counter(), [], (0.0, None)
 
     @settings(max_examples=n, deadline=None, database=None, phases=["generate"],
@@ -59,6 +59,8 @@ def fuzz(name, strategy, run, n, max_seconds):
         except Exception as exc:  # noqa: BLE001 -- what the fuzzing looks for
             counts["escaped"] += 1
             failures.append((repr(example)[:400], "".join(traceback.format_exception_only(exc)).strip()[:300]))
+            save.mkdir(parents=True, exist_ok=True)
+            (save / f"{name}-{len(failures)}.txt").write_text(repr(example))
         took = time.perf_counter() - start
         if took > slowest[0]:
             slowest = (took, repr(example)[:200])
@@ -66,11 +68,13 @@ def fuzz(name, strategy, run, n, max_seconds):
     start = time.perf_counter()
     one()
     print(f"{name}: {n} examples in {time.perf_counter() - start:.0f} s: {counts['read']} read, "
-          f"{counts['refused']} refused, {counts['escaped']} escaped; slowest {slowest[0]:.2f} s")
+          f"{counts['refused']} refused, {counts['escaped']} escaped; slowest {slowest[0]:.2f} s", flush=True)
     for msg, k in refusals.most_common(8):
         print(f"    {k:6d}  {msg}")
     for example, exc in failures[:10]:
         print(f"  ESCAPED {exc}\n    input: {example}")
+    if failures:
+        print(f"  the {len(failures)} inputs that escaped (Python literals) are in {save}/{name}-*.txt")
     return not failures and slowest[0] <= max_seconds
 
 
@@ -80,12 +84,14 @@ def main(argv=None):
     ap.add_argument("--reader", choices=["case", "gerber", "excellon", "fabrication"], action="append",
                     help="fuzz only this reader (repeatable)")
     ap.add_argument("--max-seconds", type=float, default=5.0, help="longest allowed example (default 5 s)")
+    ap.add_argument("--save", type=Path, default=Path("fuzz-failures"),
+                    help="folder for the inputs that escaped (default ./fuzz-failures)")
     args = ap.parse_args(argv)
     ok = True
     with tempfile.TemporaryDirectory(prefix="copperpath-fuzz-") as tmp:
         runs = _reader_runs(Path(tmp))
         for name in args.reader or list(runs):
-            ok &= fuzz(name, *runs[name], args.n, args.max_seconds)
+            ok &= fuzz(name, *runs[name], args.n, args.max_seconds, args.save)
     return 0 if ok else 1
 
 

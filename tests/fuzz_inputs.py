@@ -325,30 +325,32 @@ def gerber_text(g):
     out = []
     n_int, n_dec = g.choice([(4, 6), (3, 6), (2, 5), (6, 6)])
     if g.chance(0.95):
-        z = g.maybe("L", ["T", "D", "", "X"], 0.2)
+        z = g.maybe("L", ["T", "D", "", "X"], 0.5)
         out.append(f"%FS{z}AX{n_int}{n_dec}Y{n_int}{n_dec}*%")
     if g.chance(0.95):
         out.append(g.maybe(lambda: g.choice(["%MOMM*%", "%MOIN*%"]), ["%MOCM*%", "G70*", "G71*"]))
     if g.chance(0.5):
-        out.append(g.choice(["%TF.FileFunction,Copper,L1,Top*%", "G04 #@! TF.FileFunction,Copper,L2,Bot*",
-                             "%TF.FileFunction,Soldermask,Top*%", "%TF*%", "%TA.AperFunction,Conductor*%"]))
+        out.append(g.maybe(lambda: g.choice(["%TF.FileFunction,Copper,L1,Top*%", "G04 #@! TF.FileFunction,Copper,L2,Bot*",
+                                             "%TA.AperFunction,Conductor*%"]),
+                           ["%TF.FileFunction,Soldermask,Top*%", "%TF*%"], 0.5))
     macros = g.sample(MACROS, g.randint(0, 2))
     out += [m[2] for m in macros]
     counts = {"C": 1, "R": 2, "O": 2, "P": 2, **{m[0]: m[1] for m in macros}}
     codes = []
     for k in range(g.randint(1, 4)):
         code, kind = 10 + k, g.choice(["C", "C", "R", "O", "P"] + [m[0] for m in macros])
-        n = max(counts[kind] + g.choice([0, 0, 0, 1, -1]), 0)
+        n = max(counts[kind] + g.maybe(0, [1, -1], 0.5), 0)
         params = [_gparam(g) for _ in range(n)]
         if kind == "P" and params:
-            params = [params[0], g.choice(["3", "6", "12", "2", "40"])]
+            params = [params[0], g.maybe(lambda: g.choice(["3", "6", "12"]), ["2", "40", "3.5"], 0.5)]
         out.append(f"%ADD{code}{kind}" + (f",{'X'.join(params)}" if params else "") + "*%")
         codes.append(code)
+    out.append(f"D{g.choice(codes)}*")
     for _ in range(g.randint(0, 25)):
         op = g.choice(["select", "flash", "flash", "draw", "draw", "move", "arc", "region", "G01", "G02", "G03",
                        "G74", "G75", "LP", "LM", "LR", "LS", "SR", "AB", "comment", "coord", "block_flash"])
         if op == "select":
-            out.append(f"D{g.choice(codes + [99, 3, 20])}*")
+            out.append(f"D{g.maybe(lambda: g.choice(codes), [99, 3, 20], 0.5)}*")
         elif op in ("flash", "draw", "move", "coord"):
             out.append(_xy(g, {"flash": "D03", "draw": "D01", "move": "D02", "coord": ""}[op]))
         elif op == "arc":
@@ -360,23 +362,24 @@ def gerber_text(g):
         elif op in ("G01", "G02", "G03", "G74", "G75"):
             out.append(op + "*")
         elif op == "LP":
-            out.append(g.choice(["%LPC*%", "%LPD*%", "%LPX*%"]))
+            out.append(g.maybe(lambda: g.choice(["%LPC*%", "%LPD*%"]), ["%LPX*%"], 0.5))
         elif op == "LM":
             out.append(g.choice(["%LMN*%", "%LMX*%", "%LMXY*%"]))
         elif op == "LR":
-            out.append(f"%LR{g.choice(['0', '45', '90', '-30.5', '1e9', 'nan'])}*%")
+            out.append(f"%LR{g.maybe(lambda: g.choice(['0', '45', '90', '-30.5']), ['1e9', 'nan'], 0.5)}*%")
         elif op == "LS":
-            out.append(f"%LS{g.choice(['1', '0.5', '2', '0', '-1', '100000000'])}*%")
+            out.append(f"%LS{g.maybe(lambda: g.choice(['1', '0.5', '2']), ['0', '-1', '100000000'], 0.5)}*%")
         elif op == "SR":
             nx = g.maybe(lambda: g.randint(1, 4), [0, 1000, 100000, 10**12], 0.1)
             ny = g.maybe(lambda: g.randint(1, 4), [0, 1000, 100000], 0.1)
             out.append(g.choice([f"%SRX{nx}Y{ny}I{_gparam(g)}J{_gparam(g)}*%", "%SR*%"]))
         elif op == "AB":
-            out.append(g.choice(["%ABD30*%", "%AB*%", "%ABD5*%"]))
+            out.append(g.maybe(lambda: g.choice(["%ABD30*%", "%AB*%"]), ["%ABD5*%"], 0.5))
         elif op == "block_flash":
             out += ["D30*", _xy(g, "D03")]
         else:
-            out.append(g.choice(["G04 hello*", "G04 #@! TO.N,GND*", "M01*", "G54D10*", "%IPPOS*%", "%IPNEG*%"]))
+            out.append(g.maybe(lambda: g.choice(["G04 hello*", "G04 #@! TO.N,GND*", "M01*", "G54D10*", "%IPPOS*%"]),
+                               ["%IPNEG*%", "M03*"], 0.5))
     if g.chance(0.9):
         out.append("M02*")
     return "\n".join(out) + "\n"
@@ -416,19 +419,20 @@ def excellon_text(g):
         fmt = g.maybe(lambda: g.choice(["3:3", "2:4", "4:4"]), ["3:400", "0:0", "12:12", "9:9"], 0.3)
         out.append(f";FILE_FORMAT={fmt}")
     if g.chance(0.95):
-        out.append(unit + g.choice(["", ",LZ", ",TZ", ",TZ,000.000", ",LZ,00.0000", ",0000.00000000000", ",XX"]))
+        out.append(unit + g.maybe(lambda: g.choice(["", ",LZ", ",TZ", ",TZ,000.000", ",LZ,00.0000"]),
+                                  [",0000.00000000000", ",XX"], 0.5))
     for k in range(g.randint(1, 3)):
         if g.chance(0.25):
             out.append(g.choice([";TYPE=PLATED", ";TYPE=NON_PLATED",
                                  "; #@! TA.AperFunction,NonPlated,NPTH,ComponentDrill"]))
         out.append(f"T{k + 1}C{g.maybe(lambda: g.choice(['0.3', '0.8', '0.0']), ['-1', '1e9', 'nan', '99999999.0', ''])}")
     if g.chance(0.9):
-        out.append(g.choice(["%", "M95"]))
+        out += [g.choice(["%", "M95"]), g.maybe("T1", ["T0", "T9"], 0.5)]
     for _ in range(g.randint(0, 20)):
-        op = g.choice(["T", "hit", "hit", "hit", "xonly", "repeat", "slot", "route", "G93", "G90", "G91",
-                       "M71", "M72", "G05", "other"])
+        op = g.maybe(lambda: g.choice(["T", "hit", "hit", "hit", "xonly", "repeat", "slot", "route", "G93", "G90",
+                                       "M71", "M72", "G05"]), ["G91", "other"], 0.5)
         if op == "T":
-            out.append(f"T{g.choice([1, 2, 3, 0, 7])}")
+            out.append(f"T{g.maybe(lambda: g.choice([1, 2, 3]), [0, 7], 0.5)}")
         elif op == "hit":
             out.append(xy())
         elif op == "xonly":

@@ -440,7 +440,10 @@ class _Reader:
             self.warn(self.line, "file does not end with M02")
         top = self.stack[0]
         self.flush(top)
-        image = _resolve(top.stream, self.clip)
+        try:
+            image = _resolve(top.stream, self.clip)
+        except GEOSException as exc:
+            raise self.error(self.line, f"the geometry engine could not unite the image: {exc}") from None
         if not image.is_empty and not all(coordinate_ok(b) for b in image.bounds):
             raise self.error(self.line, "the image reaches beyond the board extent "
                                         f"({BOARD_EXTENT * 1e3:g} mm from the origin in x and y)")
