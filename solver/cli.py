@@ -106,7 +106,19 @@ def run_case(case, out, *, freqs=None, quiet=False, write=True):
     say("writing maps, exports and report")
     summary = write_outputs(case, mesh, system, result, out, timing=timing) if write else None
     say(None)
+    for line in (summary or {}).get("warnings", ()):
+        print(f"warning: {Path(case.path).name}: {line}", file=sys.stderr)
     return result, mesh, system, summary
+
+
+def _staged(out):
+    """The staging folder context of ``out`` (:func:`solver.files.staged_folder`), after printing
+    a warning for each unfinished earlier run that it cleans up."""
+    from solver.files import remove_stale, staged_folder
+
+    for line in remove_stale(out):
+        print(f"warning: {line}", file=sys.stderr)
+    return staged_folder(out)
 
 
 def _cmd_solve(args):
@@ -116,7 +128,8 @@ def _cmd_solve(args):
         raise InputError(f"--freq: frequencies must be finite and >= 0 Hz, got {args.freq}")
     case = _load(args.case)
     out = _out_dir(args, args.case)
-    result, mesh, system, summary = run_case(case, out, freqs=sorted(set(args.freq or [])))
+    with _staged(out) as stage:
+        result, mesh, system, summary = run_case(case, stage, freqs=sorted(set(args.freq or [])))
     print(format_table(case, result, summary))
     print(f"wrote {out}/")
     return 0
@@ -130,8 +143,9 @@ def _cmd_inspect(args):
 
     out = _out_dir(args, args.case)
     mesh = triangulate(case.layout, case.mesh)
-    info = write_inspect(case.layout, mesh, out, unit_scale=case.unit_scale, unit=case.unit,
-                         title=case.title, ports=case.ports)
+    with _staged(out) as stage:
+        info = write_inspect(case.layout, mesh, stage, unit_scale=case.unit_scale, unit=case.unit,
+                             title=case.title, ports=case.ports)
     from solver.outputs import format_inspect
     print(format_inspect(case, info))
     print(f"wrote {out}/")

@@ -10,6 +10,7 @@ from solver.exports.result_json import write_result_json
 from solver.exports.spice import write_spice
 from solver.exports.touchstone import write_touchstone
 from solver.exports.vtu import write_vtu
+from solver.finite import require_finite
 from solver.maps import map_frequencies, write_maps
 from solver.report import engineering, write_report
 
@@ -38,8 +39,14 @@ def write_outputs(case, mesh, system, result, out, *, timing=None, extra_section
     dict
         The data written to ``result.json``, plus ``"files"`` (names written),
         ``"spice_fit_error"``, ``"estimate"`` (the circuit estimate or ``None``) and
-        ``"images"`` (the maps).
+        ``"images"`` (the maps) and ``"warnings"`` (pictures that failed and were skipped).
+
+    Raises
+    ------
+    geometry.errors.InputError
+        Any R or L is not finite (:func:`solver.finite.require_finite`); nothing is written.
     """
+    require_finite(result, case.layout.layers, source=str(case.path))
     out = Path(out)
     out.mkdir(parents=True, exist_ok=True)
     stem = Path(case.path).stem
@@ -49,7 +56,7 @@ def write_outputs(case, mesh, system, result, out, *, timing=None, extra_section
     write_touchstone(out / f"{stem}_Z.s{n}p", result)
     write_touchstone(out / f"{stem}_S.s{n}p", result, parameter="S")
     fitted = write_spice(out / f"{stem}.cir", result, name=stem)
-    images, bottlenecks = write_maps(out, case, mesh, system, result)
+    images, bottlenecks, picture_warnings = write_maps(out, case, mesh, system, result)
     if result.currents is not None:
         dc, fmap, _, _ = map_frequencies(mesh, case, result)
         write_vtu(out / "mesh.vtu", mesh, system, result, case,
@@ -62,12 +69,13 @@ def write_outputs(case, mesh, system, result, out, *, timing=None, extra_section
         sections.append(circuit_section(estimate))
     sections.append(exports_section(stem, n, fitted.max_relative_error))
     write_report(out, case, result, summary, images, bottlenecks=bottlenecks,
-                 warnings=case.warnings, extra_sections=sections)
+                 warnings=picture_warnings, extra_sections=sections)
     summary["files"] = ["result.json", "impedance.csv", f"{stem}_Z.s{n}p", f"{stem}_S.s{n}p",
                         f"{stem}.cir", "mesh.vtu", "report.html", "report.md", "maps/"]
     summary["spice_fit_error"] = fitted.max_relative_error
     summary["estimate"] = estimate
     summary["images"] = images
+    summary["warnings"] = picture_warnings
     return summary
 
 
