@@ -47,7 +47,7 @@ from geometry.formats.fabrication import scan
 from geometry.layout import CopperShape, build_layout, via_array
 from geometry.model import (Case, CircuitOptions, Layer, Lumped, MeshOptions, Port,
                             SolverOptions, Terminal, Via)
-from geometry.units import UNITS, unit_scale
+from geometry.units import UNITS, to_si, unit_scale
 
 ARRAY_TABLES = ("layer", "copper", "via", "drill", "terminal", "port", "lumped")
 SINGLE_TABLES = ("sweep", "mesh", "window", "solver", "circuit", "fabrication")
@@ -106,6 +106,7 @@ class _Fields:
     def __init__(self, item, allowed):
         self.item, self.data = item, item.data
         self.scale = unit_scale(item.unit)
+        self.unit = item.unit
         unknown = [k for k in self.data if k not in allowed]
         if unknown:
             raise self.fail(f"unknown key '{unknown[0]}', expected one of "
@@ -113,6 +114,11 @@ class _Fields:
 
     def fail(self, message):
         return input_error(self.item.source, self.item.label, message)
+
+    def si(self, value):
+        """A length or array of lengths in the file's unit, in metres
+        (:func:`geometry.units.to_si`: equal lengths in any unit give equal floats)."""
+        return to_si(value, self.unit)
 
     def show(self, si_length):
         """A length in metres quoted in the file's unit."""
@@ -139,7 +145,7 @@ class _Fields:
         if key not in self.data:
             return self.raw(key, default)
         what = "a positive length" if positive else "a length (a number)"
-        return self.number(key, lower=0 if positive else None, what=what) * self.scale
+        return self.si(self.number(key, lower=0 if positive else None, what=what))
 
     def integer(self, key, default=_MISSING, *, lower=1):
         if key not in self.data:
@@ -331,14 +337,14 @@ def _shape(f, keys):
     if len(given) != 1:
         raise f.fail("expected exactly one shape key of " + ", ".join(f"'{k}'" for k in keys)
                      + (f", got {len(given)}: " + ", ".join(given) if given else ", got none"))
-    kind, s = given[0], f.scale
+    kind, s = given[0], f.si
     if "holes" in f.data and kind != "polygon":
         raise f.fail("'holes' goes only with 'polygon'")
     if kind == "rect":
         x0, y0, x1, y1 = f.numbers("rect", f.data["rect"], 4)
         if x0 == x1 or y0 == y1:
             raise f.fail(f"'rect' must have x0 != x1 and y0 != y1, got {_show(f.data['rect'])}")
-        return shapes.rect(x0 * s, y0 * s, x1 * s, y1 * s)
+        return shapes.rect(s(x0), s(y0), s(x1), s(y1))
     if kind == "polygon":
         shell = f.points("polygon", f.data["polygon"], 3)
         holes = f.raw("holes", [])
@@ -348,20 +354,20 @@ def _shape(f, keys):
         problem = shapes.polygon_problem(shell, holes)
         if problem:
             raise f.fail(f"'polygon' {problem}")
-        return shapes.polygon(shell * s, [h * s for h in holes])
+        return shapes.polygon(s(shell), [s(h) for h in holes])
     if kind == "circle":
         c = f.inline("circle", ("center", "radius"))
         center = f.numbers("circle.center", c["center"], 2)
         if not (_is_number(c["radius"]) and c["radius"] > 0):
             raise f.fail(f"'circle' radius must be a positive length, got {_show(c['radius'])}")
-        return shapes.circle((center[0] * s, center[1] * s), c["radius"] * s)
+        return shapes.circle((s(center[0]), s(center[1])), s(c["radius"]))
     t = f.inline("trace", ("path", "width"))
     path = f.points("trace.path", t["path"], 2)
     if not (_is_number(t["width"]) and t["width"] > 0):
         raise f.fail(f"'trace' width must be a positive length, got {_show(t['width'])}")
     if len(np.unique(path, axis=0)) < 2:
         raise f.fail("'trace' path must have at least two distinct points")
-    return shapes.trace(path * s, t["width"] * s)
+    return shapes.trace(s(path), s(t["width"]))
 
 
 def _layer_name(f, key, names):
@@ -399,7 +405,7 @@ def _vias(item, layers):
     pad = f.length("pad", drill + DEFAULT_ANNULUS, positive=True)
     if pad <= drill:
         raise f.fail(f"'pad' {f.show(pad)} must exceed 'drill' {f.show(drill)}")
-    via = Via(name=item.name, x=x * f.scale, y=y * f.scale, drill=drill,
+    via = Via(name=item.name, x=f.si(x), y=f.si(y), drill=drill,
               plating=f.length("plating", DEFAULT_PLATING, positive=True), pad=pad,
               span=_span(f, layers))
     if "array" not in f.data:
@@ -411,10 +417,10 @@ def _vias(item, layers):
             and all(isinstance(c, int) and not isinstance(c, bool) and c >= 1 for c in count)):
         raise f.fail(f"'array' count must be two integers >= 1, got {_show(count)}")
     for axis, p, n in zip("xy", pitch, count):
-        if n > 1 and abs(p) * f.scale < drill:
+        if n > 1 and abs(f.si(p)) < drill:
             raise f.fail(f"'array' pitch {p:g} along {axis} is less than the drill "
                          f"{f.show(drill)}: holes would overlap")
-    return via_array(via, (pitch[0] * f.scale, pitch[1] * f.scale), tuple(count))
+    return via_array(via, (f.si(pitch[0]), f.si(pitch[1])), tuple(count))
 
 
 def _drill(item, layers):
@@ -501,8 +507,8 @@ def _window(item):
     x0, y0, x1, y1 = f.numbers("rect", f.raw("rect"), 4)
     if x0 == x1 or y0 == y1:
         raise f.fail(f"'rect' must have x0 != x1 and y0 != y1, got {_show(f.data['rect'])}")
-    s = f.scale
-    return (min(x0, x1) * s, min(y0, y1) * s, max(x0, x1) * s, max(y0, y1) * s)
+    s = f.si
+    return (s(min(x0, x1)), s(min(y0, y1)), s(max(x0, x1)), s(max(y0, y1)))
 
 
 def _solver(item):
