@@ -617,6 +617,21 @@ def _check_ports(layout, ports, lumped, port_items):
     return found
 
 
+def _via_warnings(path, layout, scale, unit):
+    """One line per via that joins fewer than two layers' copper (it carries no current)."""
+    lonely = [v for v in layout.vias if len(v.connects) < 2]
+    lines = []
+    for v in lonely[:MAX_ISLAND_WARNINGS]:
+        where = f"only layer '{v.connects[0]}'" if v.connects else "no copper on any layer"
+        lines.append(f"{path}: via '{v.name}' at ({v.x / scale:g}, {v.y / scale:g}) {unit} "
+                     f"touches {where} of its span {v.span[0]}-{v.span[-1]}: it joins nothing "
+                     "and carries no current (is it placed over copper?)")
+    if len(lonely) > MAX_ISLAND_WARNINGS:
+        lines.append(f"{path}: {len(lonely) - MAX_ISLAND_WARNINGS} more vias join fewer than two "
+                     "layers and carry no current")
+    return lines
+
+
 def _island_warnings(path, found, ports, scale, unit):
     if not ports:
         return [f"{path}: no [[port]] given: nothing to solve"]
@@ -728,6 +743,7 @@ def load_case(path, *, read_artwork=None):
         notes.append(f"[window]: {len(vias) - len(layout.vias)} of {len(vias)} vias lie outside "
                      "the window and are dropped")
     found = _check_ports(layout, ports, lumped, arrays["port"])
+    warnings += _via_warnings(path, layout, scale, doc["unit"])
     warnings += _island_warnings(path, found, ports, scale, doc["unit"])
     f_lim, d = quasi_static_limit(layout)
     if frequencies.max() > f_lim:

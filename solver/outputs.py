@@ -153,11 +153,15 @@ def format_table(case, result, summary=None):
             label = "DC" if f == 0 else engineering(f, "Hz")
             lines.append(f"  {label:>12}  {engineering(r[i, k, k], 'ohm'):>12}  {engineering(ell[i, k, k], 'H'):>12}")
     if summary and summary.get("bottlenecks"):
-        lines.append(f"bottlenecks (share of loop L and R; x, y in {case.unit}):")
+        lines.append(f"bottlenecks, most concentrated first (L share per length of current path, "
+                     f"share of loop L and R; x, y in {case.unit}):")
         for b in summary["bottlenecks"]:
-            where = (f"{b['layer']} at ({b['x']:.3g}, {b['y']:.3g})" if b.get("layer")
-                     else b.get("name", b.get("kind", "")))
-            lines.append(f"  #{b.get('rank', '?')} port {b['port']}: {where:<28} "
+            where = f"{b['layer']} at ({b['x']:.3g}, {b['y']:.3g})"
+            if b.get("name"):
+                where = f"{b['kind']} {b['name']} ({b['layer']})"
+            per = b.get("inductance_per_length_h_per_m")
+            per = f"{per * 1e-6:7.3g} nH/mm" if per is not None else "      point"
+            lines.append(f"  #{b.get('rank', '?')} port {b['port']}: {where:<28} {per}   "
                          f"L {100 * b['inductance_share']:5.1f} %   R {100 * b['resistance_share']:5.1f} %")
     if summary and summary.get("estimate") is not None:
         lines.append(format_estimate(summary["estimate"]))
