@@ -60,6 +60,15 @@ def _load(path, *, named=False):
     return case
 
 
+def _mesh_warnings(case, mesh):
+    """Print a warning when a tiny feature of the artwork drives the mesh size."""
+    from geometry.mesh_size import size_warnings
+
+    for line in size_warnings(mesh, case.layout, case.mesh, unit_scale=case.unit_scale,
+                              unit=case.unit, source=Path(case.path).name):
+        print(f"warning: {line}", file=sys.stderr)
+
+
 def _out_dir(args, case_path):
     return Path(args.out) if args.out else Path("out") / Path(case_path).stem
 
@@ -84,6 +93,7 @@ def run_case(case, out, *, freqs=None, quiet=False, write=True):
     say("meshing")
     mesh = triangulate(case.layout, case.mesh)
     timing["mesh"] = time.perf_counter() - t
+    _mesh_warnings(case, mesh)
     say(f"assembling ({mesh.n_triangles} triangles)")
     t = time.perf_counter()
     system = assemble(mesh, case.layout, case.ports, case.lumped, n_freqs=len(frequencies),
@@ -143,6 +153,7 @@ def _cmd_inspect(args):
 
     out = _out_dir(args, args.case)
     mesh = triangulate(case.layout, case.mesh)
+    _mesh_warnings(case, mesh)
     with _staged(out) as stage:
         info = write_inspect(case.layout, mesh, stage, unit_scale=case.unit_scale, unit=case.unit,
                              title=case.title, ports=case.ports)
