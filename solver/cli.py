@@ -60,6 +60,19 @@ def _load(path, *, named=False):
     return case
 
 
+def _check_before_meshing(case, frequencies=None, *, solve=True):
+    """Refuse in seconds a case whose mesh (and, for ``solve``, dense solve) cannot fit, from
+    a lower bound of its size (:func:`solver.memory.before_meshing`)."""
+    from solver import memory
+
+    f = np.asarray(case.frequencies if frequencies is None else frequencies, float)
+    est, triangles = memory.before_meshing(case.layout, case.mesh, f_max=float(f.max(initial=0.0)),
+                                           ports=max(len(case.ports), 1), freqs=len(f))
+    memory.require_mesh(triangles, what=f"{Path(case.path).name}: the mesh")
+    if solve:
+        memory.require(est, what=f"{Path(case.path).name}: the dense solve")
+
+
 def _mesh_warnings(case, mesh):
     """Print a warning when a tiny feature of the artwork drives the mesh size."""
     from geometry.mesh_size import size_warnings
@@ -90,6 +103,7 @@ def run_case(case, out, *, freqs=None, quiet=False, write=True):
     say = _stage(None if quiet else Path(case.path).stem)
     timing = {}
     t = time.perf_counter()
+    _check_before_meshing(case, frequencies)
     say("meshing")
     mesh = triangulate(case.layout, case.mesh)
     timing["mesh"] = time.perf_counter() - t
@@ -152,11 +166,13 @@ def _cmd_inspect(args):
     from solver.inspect import write_inspect
 
     out = _out_dir(args, args.case)
+    _check_before_meshing(case, solve=False)
     mesh = triangulate(case.layout, case.mesh)
     _mesh_warnings(case, mesh)
     with _staged(out) as stage:
         info = write_inspect(case.layout, mesh, stage, unit_scale=case.unit_scale, unit=case.unit,
-                             title=case.title, ports=case.ports)
+                             title=case.title, ports=case.ports, lumped=case.lumped,
+                             frequencies=case.frequencies)
     from solver.outputs import format_inspect
     print(format_inspect(case, info))
     print(f"wrote {out}/")

@@ -183,5 +183,9 @@ def format_inspect(case, info):
     m = info["mesh"]
     lines.append(f"  mesh: {m['triangles']} triangles, {m['unknowns']} current unknowns, "
                  f"minimum angle {m['min_angle_deg']:.1f} deg")
-    lines.append(f"  dense solve needs about {info['dense_memory_bytes'] / 2**20:.1f} MiB")
+    verdict = "fits" if info["fits"] else "does NOT fit: solve would refuse"
+    lines.append(f"  dense solve needs about {info['dense_memory_bytes'] / 2**20:.1f} MiB "
+                 f"(process peak {info['process_peak_bytes'] / 2**20:.0f} MiB); "
+                 f"{info['available_memory_bytes'] / 2**30:.3g} GiB available under "
+                 f"{info['available_memory_source']}: {verdict}")
     return "\n".join(lines)
