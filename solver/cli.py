@@ -179,42 +179,62 @@ def _cmd_inspect(args):
     return 0
 
 
-def _side_by_side(out, solved, comparison):
-    """Current-density maps of the compared port, one panel per case, one colour scale, on every
-    layer that the port's plus terminal or any case's copper uses; returns (path, caption) pairs."""
+def _panel(case, mesh, system, result, port):
+    """What the side-by-side maps need of one solved variant: its |J| and J of ``port`` at its
+    map frequency (two arrays per triangle), so that its system and currents can be released."""
     from solver import post
-    from solver.maps import map_frequencies, safe_name
-    from solver.plot import format_frequency, side_by_side_map
+    from solver.maps import map_frequencies
+    from solver.plot import format_frequency
 
-    panels, layers, freq = [], [], None
-    for case, mesh, system, result in solved:
-        k = list(result.ports).index(comparison.port)
-        _, fmap, _, _ = map_frequencies(mesh, case, result)
-        fi = fmap if fmap is not None else 0
-        maps = post.port_maps(mesh, system, result, freq_index=fi, port_index=k,
-                              layout=case.layout, lumped=case.lumped)
-        freq = result.frequencies[fi] if freq is None else freq
-        j = np.abs(maps.current_density)
-        magnitude = np.sqrt((j ** 2).sum(axis=1)) * 1e-3          # A/m -> A/mm
-        panels.append((f"{case.title}\n{format_frequency(result.frequencies[fi])}", mesh, case,
-                       magnitude, maps.current_density))
+    k = list(result.ports).index(port)
+    _, fmap, _, _ = map_frequencies(mesh, case, result)
+    fi = fmap if fmap is not None else 0
+    maps = post.port_maps(mesh, system, result, freq_index=fi, port_index=k,
+                          layout=case.layout, lumped=case.lumped)
+    j = np.abs(maps.current_density)
+    magnitude = np.sqrt((j ** 2).sum(axis=1)) * 1e-3          # A/m -> A/mm
+    return (f"{case.title}\n{format_frequency(result.frequencies[fi])}", mesh, case, magnitude,
+            maps.current_density)
+
+
+def _side_by_side(out, panels, port):
+    """Current-density maps of the compared port, one panel per case, one colour scale, on every
+    layer that any case's copper uses; returns (path, caption) pairs. A picture that fails is
+    skipped with a warning."""
+    from solver.maps import safe_name
+    from solver.plot import side_by_side_map
+
+    layers = []
+    for _, mesh, _, _, _ in panels:
         layers += [name for k, name in enumerate(mesh.layer_names)
                    if name not in layers and (mesh.tri_layer == k).any()]
     images = []
     for layer in layers:
-        path = Path(out) / "maps" / f"compare_{safe_name(comparison.port)}_{safe_name(layer)}_J.png"
-        side_by_side_map(path, panels, layer=layer,
-                         title=f"Port {comparison.port}, layer {layer}: sheet current density |J| "
-                               f"(one colour scale for all variants)",
-                         label="|J| (A/mm per A of port current)")
-        images.append((path, f"Layer {layer}: |J| of port {comparison.port} in each variant, "
+        path = Path(out) / "maps" / f"compare_{safe_name(port)}_{safe_name(layer)}_J.png"
+        try:
+            side_by_side_map(path, panels, layer=layer,
+                             title=f"Port {port}, layer {layer}: sheet current density |J| "
+                                   f"(one colour scale for all variants)",
+                             label="|J| (A/mm per A of port current)")
+        except Exception as err:  # noqa: BLE001 -- a failed picture must not cost the results
+            print(f"warning: picture {path.name} skipped: {type(err).__name__}: {err}",
+                  file=sys.stderr)
+            continue
+        images.append((path, f"Layer {layer}: |J| of port {port} in each variant, "
                              f"one shared logarithmic colour scale."))
     return images
 
 
 def compare_cases(case_paths, out, *, port=None, quiet=False):
-    """Solve each case into ``out/<case name>/`` and compare them; returns the comparison."""
-    from solver.compare import compare, comparison_sections, format_comparison
+    """Solve each case into ``out/<case name>/`` and compare them; returns the comparison.
+
+    Only what the comparison needs is kept of each variant (its impedances, summary, mesh and
+    one current map); its assembled system and stored currents are released before the next
+    variant is solved, so the peak memory is that of the largest variant, not of their sum.
+    """
+    from dataclasses import replace
+
+    from solver.compare import compare, comparison_sections, format_comparison, resolve_port
     from solver.report import write_comparison_report
 
     cases = [_load(p, named=True) for p in case_paths]
@@ -222,16 +242,20 @@ def compare_cases(case_paths, out, *, port=None, quiet=False):
     if len(set(stems)) != len(stems):
         raise InputError("compare: two cases share a file name; their outputs would overwrite "
                          "each other (rename one)")
-    solved, triples = [], []
+    port = resolve_port(cases, port)
+    for case in cases:
+        _check_before_meshing(case)
+    panels, triples = [], []
     for case in cases:
         if not quiet:
             print(f"solving {Path(case.path).name} ...", flush=True)
         result, mesh, system, summary = run_case(case, Path(out) / Path(case.path).stem, quiet=quiet)
-        solved.append((case, mesh, system, result))
-        triples.append((case, result, summary))
+        panels.append(_panel(case, mesh, system, result, port))
+        triples.append((case, replace(result, currents=None, potentials=None), summary))
+        del result, system
     comparison = compare(triples, port=port)
     text = format_comparison(comparison)
-    images = _side_by_side(out, solved, comparison)
+    images = _side_by_side(out, panels, comparison.port)
     write_comparison_report(out, f"Layout variants compared on port {comparison.port}",
                             comparison_sections(comparison), images)
     return comparison, text
@@ -239,7 +263,8 @@ def compare_cases(case_paths, out, *, port=None, quiet=False):
 
 def _cmd_compare(args):
     out = Path(args.out) if args.out else Path("out") / "compare"
-    _, text = compare_cases(args.cases, out, port=args.port)
+    with _staged(out) as stage:
+        _, text = compare_cases(args.cases, stage, port=args.port)
     print(text)
     print(f"wrote {out}/report.html (each variant's own outputs in its folder)")
     return 0
@@ -263,7 +288,8 @@ def _cmd_demo(args):
     out = Path(args.out) if args.out else Path("out") / "demo"
     print("copperpath demo: a 24 V to 5 V, 8 A synchronous buck stage on a four-layer board; "
           "three variants of its hot loop.")
-    _, text = compare_cases(paths, out)
+    with _staged(out) as stage:
+        _, text = compare_cases(paths, stage)
     print(text)
     print(f"wrote {out}/report.html (open it in a browser); each variant's maps and exports lie "
           f"in its own folder there")

@@ -29,7 +29,7 @@ def _layout(sublayers):
                                                  for la in lay.layers))
 
 
-@pytest.mark.parametrize("scale, sublayers", [(2.5, 1), (2.5, 2), (1.6, 1)])
+@pytest.mark.parametrize("scale, sublayers", [(3.0, 1), (2.2, 1), (3.5, 2)])
 def test_estimate_within_25_percent_of_the_measured_peak(scale, sublayers):
     lay = _layout(sublayers)
     mesh = triangulate(lay, MeshOptions(0.5 * MM * scale, 0.05 * MM * scale))
@@ -76,13 +76,17 @@ def test_a_hopeless_mesh_is_refused_before_meshing(tmp_path, capsys, monkeypatch
         raise AssertionError("meshed a case that cannot fit")
 
     monkeypatch.setattr(geometry.meshing, "triangulate", never)
-    text = GOOD + "\n[mesh]\nmax_edge = 0.005\nmin_edge = 0.0005\n"   # 100 x finer than default
-    path = write_case(tmp_path, text)
     t = time.perf_counter()
-    for command in ("solve", "inspect"):
-        assert main([command, str(path), "--out", str(tmp_path / command)]) == 2
-        err = capsys.readouterr().err
-        assert "at least" in err and "max_edge" in err and err.count("\n") == 1, err
+    # 100 x finer than the default mesh: the solve is hopeless (the mesh alone would fit).
+    path = write_case(tmp_path, GOOD + "\n[mesh]\nmax_edge = 0.005\nmin_edge = 0.0005\n")
+    assert main(["solve", str(path), "--out", str(tmp_path / "s")]) == 2
+    err = capsys.readouterr().err
+    assert "dense solve needs at least" in err and "max_edge" in err and err.count("\n") == 1, err
+    # 1000 x finer: even the mesh is hopeless, and inspect refuses too.
+    path = write_case(tmp_path, GOOD + "\n[mesh]\nmax_edge = 0.0005\nmin_edge = 0.00005\n")
+    assert main(["inspect", str(path), "--out", str(tmp_path / "i")]) == 2
+    err = capsys.readouterr().err
+    assert "the mesh needs at least" in err and "max_edge" in err and err.count("\n") == 1, err
     assert time.perf_counter() - t < 20
 
 

@@ -170,3 +170,44 @@ def test_a_foreign_folder_is_never_replaced(tmp_path, capsys):
     assert main(["solve", str(path), "--out", str(out)]) == 2
     assert "not copperpath outputs" in capsys.readouterr().err
     assert (out / "thesis.tex").read_text() == "keep me"
+
+
+def test_compare_releases_each_variant_before_the_next(tmp_path, monkeypatch, capsys):
+    import gc
+    import weakref
+
+    import solver.cli as cli
+
+    a = write_case(tmp_path, SWEPT)
+    (tmp_path / "b").mkdir()
+    b = write_case(tmp_path / "b", SWEPT.replace("rect = [0, 0, 10, 1]", "rect = [0, 0, 10, 2]", 1))
+    b = b.rename(tmp_path / "wide.toml")
+    alive, real = [], cli.run_case
+
+    def tracked(case, out, **kw):
+        nonlocal alive
+        gc.collect()
+        # Nothing of an earlier variant's assembled system or stored currents is held.
+        assert all(ref() is None for ref in alive), "an earlier variant's matrices are still held"
+        result, mesh, system, summary = real(case, out, **kw)
+        alive += [weakref.ref(system), weakref.ref(result.currents)]
+        return result, mesh, system, summary
+
+    monkeypatch.setattr(cli, "run_case", tracked)
+    out = tmp_path / "cmp"
+    assert main(["compare", str(a), str(b), "--out", str(out)]) == 0
+    gc.collect()
+    assert all(ref() is None for ref in alive)
+    assert (out / "report.html").is_file() and (out / "case" / "result.json").is_file()
+    assert (out / "wide" / "result.json").is_file()
+
+
+def test_compare_refuses_a_missing_port_before_solving(tmp_path, capsys, monkeypatch):
+    import solver.cli as cli
+
+    monkeypatch.setattr(cli, "run_case", lambda *a, **k: pytest.fail("solved before checking"))
+    a = write_case(tmp_path, SWEPT)
+    b = tmp_path / "other.toml"
+    b.write_text(SWEPT)
+    assert main(["compare", str(a), str(b), "--port", "nope", "--out", str(tmp_path / "c")]) == 2
+    assert "nope" in capsys.readouterr().err
