@@ -160,7 +160,7 @@ def format_table(case, result, summary=None):
             if b.get("name"):
                 where = f"{b['kind']} {b['name']} ({b['layer']})"
             per = b.get("inductance_per_length_h_per_m")
-            per = f"{per * 1e-6:7.3g} nH/mm" if per is not None else "      point"
+            per = f"{per * 1e6:7.3g} nH/mm" if per is not None else "      point"
             lines.append(f"  #{b.get('rank', '?')} port {b['port']}: {where:<28} {per}   "
                          f"L {100 * b['inductance_share']:5.1f} %   R {100 * b['resistance_share']:5.1f} %")
     if summary and summary.get("estimate") is not None:

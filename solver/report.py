@@ -116,7 +116,7 @@ def _rl_tables(case, result):
 
 def _per_length(b):
     per = b.get("inductance_per_length_h_per_m")
-    return f"{per * 1e-6:.3g}" if per is not None else "point"
+    return f"{per * 1e6:.3g}" if per is not None else "point"
 
 
 def _bottleneck_table(bottlenecks, unit):
