@@ -51,7 +51,7 @@ from copperpath.geometry.layout import CopperShape, build_layout, via_array
 from copperpath.geometry.model import (Case, CircuitOptions, Layer, Lumped, MeshOptions, Port,
                             SolverOptions, Terminal, Via)
 from copperpath.geometry.physics import EPS_R_BOARD, quasi_static_frequency
-from copperpath.geometry.units import UNITS, unit_scale
+from copperpath.geometry.units import UNITS, to_si, unit_scale
 
 ARRAY_TABLES = ("layer", "copper", "via", "drill", "terminal", "port", "lumped")
 SINGLE_TABLES = ("sweep", "mesh", "window", "solver", "circuit", "fabrication")
@@ -112,6 +112,7 @@ class _Fields:
     def __init__(self, item, allowed):
         self.item, self.data = item, item.data
         self.scale = unit_scale(item.unit)
+        self.unit = item.unit
         unknown = [k for k in self.data if k not in allowed]
         if unknown:
             raise self.fail(f"unknown key '{unknown[0]}', expected one of "
@@ -119,6 +120,11 @@ class _Fields:
 
     def fail(self, message):
         return input_error(self.item.source, self.item.label, message)
+
+    def si(self, value):
+        """A length or array of lengths in the file's unit, in metres
+        (:func:`copperpath.geometry.units.to_si`: equal lengths in any unit give equal floats)."""
+        return to_si(value, self.unit)
 
     def show(self, si_length):
         """A length in metres quoted in the file's unit."""
@@ -146,7 +152,8 @@ class _Fields:
         if key not in self.data:
             return self.raw(key, default)
         scale, unit = (self.scale, self.item.unit) if length else (1.0, "")
-        x = self.number(key, lower=0, what=what) * scale
+        x = self.number(key, lower=0, what=what)
+        x = self.si(x) if length else x
         if not in_range(key, x):
             raise self.fail(f"'{key}' must be {what} from {range_text(key, scale, unit)}, "
                             f"got {_show(self.data[key])}")
@@ -161,7 +168,7 @@ class _Fields:
         if key not in self.data:
             return self.raw(key, default)
         what = "a positive length" if positive else "a length (a number)"
-        x = self.number(key, lower=0 if positive else None, what=what) * self.scale
+        x = self.si(self.number(key, lower=0 if positive else None, what=what))
         if positive:
             self.check_size(key, x, self.data[key])
         elif not coordinate_ok(x):
@@ -392,16 +399,16 @@ def _shape(f, keys):
     if len(given) != 1:
         raise f.fail("expected exactly one shape key of " + ", ".join(f"'{k}'" for k in keys)
                      + (f", got {len(given)}: " + ", ".join(given) if given else ", got none"))
-    kind, s = given[0], f.scale
+    kind, s = given[0], f.si
     if "holes" in f.data and kind != "polygon":
         raise f.fail("'holes' goes only with 'polygon'")
     if kind == "rect":
         x0, y0, x1, y1 = f.numbers("rect", f.data["rect"], 4)
         if x0 == x1 or y0 == y1:
             raise f.fail(f"'rect' must have x0 != x1 and y0 != y1, got {_show(f.data['rect'])}")
-        f.check_size("rect width", abs(x1 - x0) * s, abs(x1 - x0))
-        f.check_size("rect height", abs(y1 - y0) * s, abs(y1 - y0))
-        return shapes.rect(x0 * s, y0 * s, x1 * s, y1 * s)
+        f.check_size("rect width", abs(s(x1) - s(x0)), abs(x1 - x0))
+        f.check_size("rect height", abs(s(y1) - s(y0)), abs(y1 - y0))
+        return shapes.rect(s(x0), s(y0), s(x1), s(y1))
     if kind == "polygon":
         shell = f.points("polygon", f.data["polygon"], 3)
         holes = f.raw("holes", [])
@@ -411,22 +418,22 @@ def _shape(f, keys):
         problem = shapes.polygon_problem(shell, holes)
         if problem:
             raise f.fail(f"'polygon' {problem}")
-        return shapes.polygon(shell * s, [h * s for h in holes])
+        return shapes.polygon(s(shell), [s(h) for h in holes])
     if kind == "circle":
         c = f.inline("circle", ("center", "radius"))
         center = f.numbers("circle.center", c["center"], 2)
         if not (_is_number(c["radius"]) and c["radius"] > 0):
             raise f.fail(f"'circle' radius must be a positive length, got {_show(c['radius'])}")
-        f.check_size("circle.radius", c["radius"] * s, c["radius"])
-        return shapes.circle((center[0] * s, center[1] * s), c["radius"] * s)
+        f.check_size("circle.radius", s(c["radius"]), c["radius"])
+        return shapes.circle((s(center[0]), s(center[1])), s(c["radius"]))
     t = f.inline("trace", ("path", "width"))
     path = f.points("trace.path", t["path"], 2)
     if not (_is_number(t["width"]) and t["width"] > 0):
         raise f.fail(f"'trace' width must be a positive length, got {_show(t['width'])}")
-    f.check_size("trace.width", t["width"] * s, t["width"])
+    f.check_size("trace.width", s(t["width"]), t["width"])
     if len(np.unique(path, axis=0)) < 2:
         raise f.fail("'trace' path must have at least two distinct points")
-    return shapes.trace(path * s, t["width"] * s)
+    return shapes.trace(s(path), s(t["width"]))
 
 
 def _layer_name(f, key, names):
@@ -464,7 +471,7 @@ def _vias(item, layers):
     pad = f.length("pad", drill + DEFAULT_ANNULUS, positive=True)
     if pad <= drill:
         raise f.fail(f"'pad' {f.show(pad)} must exceed 'drill' {f.show(drill)}")
-    via = Via(name=item.name, x=x * f.scale, y=y * f.scale, drill=drill,
+    via = Via(name=item.name, x=f.si(x), y=f.si(y), drill=drill,
               plating=f.ranged("plating", DEFAULT_PLATING, "a positive length", length=True), pad=pad,
               span=_span(f, layers))
     if "array" not in f.data:
@@ -481,10 +488,10 @@ def _vias(item, layers):
     for axis, v0, p, n in zip("xy", (x, y), pitch, count):
         f.coordinates(f"array (last via along {axis})", [v0 + p * (n - 1)])
     for axis, p, n in zip("xy", pitch, count):
-        if n > 1 and abs(p) * f.scale < drill:
+        if n > 1 and abs(f.si(p)) < drill:
             raise f.fail(f"'array' pitch {p:g} along {axis} is less than the drill "
                          f"{f.show(drill)}: holes would overlap")
-    return via_array(via, (pitch[0] * f.scale, pitch[1] * f.scale), tuple(count))
+    return via_array(via, (f.si(pitch[0]), f.si(pitch[1])), tuple(count))
 
 
 def _drill(item, layers):
@@ -586,10 +593,10 @@ def _window(item):
     if not (x0 < x1 and y0 < y1):
         raise f.fail(f"'rect' must be [x0, y0, x1, y1] with x0 < x1 and y0 < y1 (lower left, then "
                      f"upper right corner), got {_show(f.data['rect'])}")
-    f.check_size("rect width", (x1 - x0) * f.scale, x1 - x0)
-    f.check_size("rect height", (y1 - y0) * f.scale, y1 - y0)
-    s = f.scale
-    return (x0 * s, y0 * s, x1 * s, y1 * s)
+    f.check_size("rect width", f.si(x1) - f.si(x0), x1 - x0)
+    f.check_size("rect height", f.si(y1) - f.si(y0), y1 - y0)
+    s = f.si
+    return (s(x0), s(y0), s(x1), s(y1))
 
 
 def _solver(item):
@@ -706,13 +713,18 @@ def _check_ports(layout, ports, lumped, port_items):
     return found
 
 
-def _lonely_via_warnings(path, vias, scale, unit):
-    """Warn about vias whose pad touches the copper of no layer: they join nothing."""
-    lonely = [v for v in vias if not v.connects]
-    lines = [f"{path}: via '{v.name}' at ({v.x / scale:g}, {v.y / scale:g}) {unit} touches no copper on "
-             "any layer of its span; it joins nothing" for v in lonely[:MAX_ISLAND_WARNINGS]]
+def _via_warnings(path, layout, scale, unit):
+    """One line per via that joins fewer than two layers' copper (it carries no current)."""
+    lonely = [v for v in layout.vias if len(v.connects) < 2]
+    lines = []
+    for v in lonely[:MAX_ISLAND_WARNINGS]:
+        where = f"only layer '{v.connects[0]}'" if v.connects else "no copper on any layer"
+        lines.append(f"{path}: via '{v.name}' at ({v.x / scale:g}, {v.y / scale:g}) {unit} "
+                     f"touches {where} of its span {v.span[0]}-{v.span[-1]}: it joins nothing "
+                     "and carries no current (is it placed over copper?)")
     if len(lonely) > MAX_ISLAND_WARNINGS:
-        lines.append(f"{path}: {len(lonely) - MAX_ISLAND_WARNINGS} more vias touch no copper")
+        lines.append(f"{path}: {len(lonely) - MAX_ISLAND_WARNINGS} more vias join fewer than two "
+                     "layers and carry no current")
     return lines
 
 
@@ -831,8 +843,8 @@ def load_case(path, *, read_artwork=None):
         notes.append(f"[window]: {len(vias) - len(layout.vias)} of {len(vias)} vias lie outside "
                      "the window and are dropped")
     found = _check_ports(layout, ports, lumped, arrays["port"])
+    warnings += _via_warnings(path, layout, scale, doc["unit"])
     warnings += _island_warnings(path, found, ports, scale, doc["unit"])
-    warnings += _lonely_via_warnings(path, layout.vias, scale, doc["unit"])
     f_lim, d = quasi_static_limit(layout)
     if frequencies.max() > f_lim:
         warnings.append(f"{path}: [sweep]: top frequency {frequencies.max():g} Hz exceeds the "

@@ -5,6 +5,8 @@ to metres with :func:`to_si` and keeps the unit only to show numbers back to the
 """
 from __future__ import annotations
 
+from decimal import Decimal
+
 import numpy as np
 
 #: Metres per unit. ``mil`` is a thousandth of an inch; the inch is exactly 25.4 mm
@@ -16,6 +18,11 @@ UNITS = {
     "inch": 25.4e-3,
     "m": 1.0,
 }
+
+
+#: The same sizes as exact decimals, for :func:`to_si`.
+EXACT = {"mm": Decimal("0.001"), "um": Decimal("0.000001"), "mil": Decimal("0.0000254"),
+         "inch": Decimal("0.0254"), "m": Decimal(1)}
 
 
 def unit_scale(unit):
@@ -49,7 +56,13 @@ def unit_scale(unit):
 
 
 def to_si(value, unit):
-    """Convert a length (or an array of lengths) from ``unit`` to metres.
+    """Convert a length (or an array of lengths) from ``unit`` to metres, exactly rounded.
+
+    Each value is read as the shortest decimal that prints it (what the case file says),
+    multiplied by the unit's exact decimal size, and rounded once to the nearest float. So
+    equal lengths give equal floats whatever the unit: ``1.5`` mm, ``1500`` um and ``0.0015``
+    m all give the float nearest to 0.0015 (a plain ``1500 * 1e-6`` is one ulp off), and the
+    same case in other units meshes identically.
 
     Parameters
     ----------
@@ -67,10 +80,20 @@ def to_si(value, unit):
     --------
     >>> to_si(1.6, "mm")
     0.0016
+    >>> to_si(1500, "um") == to_si(1.5, "mm") == 0.0015
+    True
     >>> to_si([10, 20], "mil").tolist()
     [0.000254, 0.000508]
     """
-    scale = unit_scale(unit)
+    unit_scale(unit)                                    # the message for an unknown unit
+    size = EXACT[unit]
     if np.ndim(value) == 0:
-        return float(value) * scale
-    return np.asarray(value, dtype=float) * scale
+        return _exact(float(value), size)
+    a = np.asarray(value, dtype=float)
+    return np.array([_exact(x, size) for x in a.ravel()], float).reshape(a.shape)
+
+
+def _exact(x, size):
+    if not np.isfinite(x) or x == 0.0:
+        return x * float(size)
+    return float(Decimal(repr(float(x))) * size)

@@ -119,7 +119,19 @@ def run_case(case, out, *, freqs=None, quiet=False, write=True):
     say("writing maps, exports and report")
     summary = solution.write(out) if write else None
     say(None)
+    for line in (summary or {}).get("warnings", ()):
+        print(f"warning: {Path(case.path).name}: {line}", file=sys.stderr)
     return solution, summary
+
+
+def _staged(out):
+    """The staging folder context of ``out`` (:func:`copperpath.solver.output.files.staged_folder`), after printing
+    a warning for each unfinished earlier run that it cleans up."""
+    from copperpath.solver.output.files import remove_stale, staged_folder
+
+    for line in remove_stale(out):
+        print(f"warning: {line}", file=sys.stderr)
+    return staged_folder(out)
 
 
 def _cmd_solve(args):
@@ -129,7 +141,8 @@ def _cmd_solve(args):
         raise InputError(f"--freq: frequencies must be finite and >= 0 Hz, got {args.freq}")
     case = _load(args.case)
     out = _out_dir(args, args.case)
-    solution, summary = run_case(case, out, freqs=sorted(set(args.freq or [])))
+    with _staged(out) as stage:
+        solution, summary = run_case(case, stage, freqs=sorted(set(args.freq or [])))
     print(format_table(case, solution.result, summary))
     print(f"wrote {out}/")
     return 0
@@ -142,9 +155,14 @@ def _cmd_inspect(args):
     from copperpath.solver.output.inspect import write_inspect
 
     out = _out_dir(args, args.case)
+    copperpath.study.check_before_meshing(case, solve=False)
     mesh = triangulate(case.layout, case.mesh)
-    info = write_inspect(case.layout, mesh, out, unit_scale=case.unit_scale, unit=case.unit,
-                         title=case.title, ports=case.ports)
+    with _printed_warnings():
+        copperpath.study.mesh_warnings(case, mesh)
+    with _staged(out) as stage:
+        info = write_inspect(case.layout, mesh, stage, unit_scale=case.unit_scale, unit=case.unit,
+                             title=case.title, ports=case.ports, lumped=case.lumped,
+                             frequencies=case.frequencies)
     from copperpath.solver.output.outputs import format_inspect
     print(format_inspect(case, info))
     print(f"wrote {out}/")
@@ -168,6 +186,8 @@ def compare_cases(case_paths, out, *, port=None, quiet=False):
         raise InputError("compare: two cases share a file name; their outputs would overwrite "
                          "each other (rename one)")
     port = resolve_port(cases, port)            # a missing port is reported before any solve
+    for case in cases:                          # so is a variant too large for the machine
+        copperpath.study.check_before_meshing(case)
     views, triples = [], []
     for case in cases:
         if not quiet:
@@ -180,7 +200,9 @@ def compare_cases(case_paths, out, *, port=None, quiet=False):
     comparison = compare(triples, port=port)
     text = format_comparison(comparison)
     _, titles = short_titles([c.title for c in comparison.cases])
-    images = side_by_side_images(out, views, titles)
+    images, failed = side_by_side_images(out, views, titles)
+    for line in failed:
+        print(f"warning: {line}", file=sys.stderr)
     sections = comparison_sections(comparison) + variant_sections(
         views, titles, lambda v: Path(v.case.path).stem)
     write_comparison_report(out, f"Layout variants compared on port {comparison.port}", sections,
@@ -190,7 +212,8 @@ def compare_cases(case_paths, out, *, port=None, quiet=False):
 
 def _cmd_compare(args):
     out = Path(args.out) if args.out else Path("out") / "compare"
-    _, text = compare_cases(args.cases, out, port=args.port)
+    with _staged(out) as stage:
+        _, text = compare_cases(args.cases, stage, port=args.port)
     print(text)
     print(f"wrote {out}/report.html (each variant's own outputs in its folder)")
     return 0
@@ -214,7 +237,8 @@ def _cmd_demo(args):
     out = Path(args.out) if args.out else Path("out") / "demo"
     print("copperpath demo: a 24 V to 5 V, 8 A synchronous buck stage on a four-layer board; "
           "three variants of its hot loop.")
-    _, text = compare_cases(paths, out)
+    with _staged(out) as stage:
+        _, text = compare_cases(paths, stage)
     print(text)
     print(f"wrote {out}/report.html (open it in a browser); each variant's maps and exports lie "
           f"in its own folder there")

@@ -169,8 +169,8 @@ def test_bottleneck_fraction_and_order():
     few = post.find_bottlenecks(mesh, m, fraction=0.2)
     many = post.find_bottlenecks(mesh, m, fraction=0.9)
     assert sum(b.inductance for b in few) < sum(b.inductance for b in many)
-    share = [b.inductance for b in many]
-    assert share == sorted(share, reverse=True)
+    key = [b.concentration for b in many]
+    assert key == sorted(key, reverse=True)
     held = sum(b.inductance for b in many) / m.inductance_share[m.inductance_share > 0].sum()
     assert held >= 0.9
     with pytest.raises(ValueError, match="fraction"):

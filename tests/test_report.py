@@ -20,7 +20,7 @@ CHROMIUM = shutil.which("chromium")
 def report(tmp_path_factory):
     out = tmp_path_factory.mktemp("report")
     case, mesh, system, result = lumped_case()
-    images, bottlenecks = write_maps(out, case, mesh, system, result)
+    images, bottlenecks, _ = write_maps(out, case, mesh, system, result)
     summary = {"mesh": {"triangles": mesh.n_triangles, "unknowns": system.network.n_branches},
                "timing_s": {"solve": 0.5}, "bottlenecks": bottlenecks}
     extra = [("Circuit estimate", "<p>extra-html-section</p>", "extra-md-section")]

@@ -78,6 +78,8 @@ class ShareItem:
         Ohm per ampere squared of port current.
     layers : tuple of str
         The layers it touches (where its marker is drawn).
+    length : float
+        Metres of current path: the barrel length of a via, 0 for a lumped branch.
     """
 
     kind: str
@@ -88,6 +90,7 @@ class ShareItem:
     inductance_share: float
     resistance_share: float
     layers: tuple = ()
+    length: float = 0.0
 
 
 @dataclass(frozen=True, eq=False)
@@ -157,6 +160,10 @@ class Bottleneck:
         Hz.
     layers : tuple of str
         The layers it touches (where its marker is drawn).
+    path_length : float
+        Metres of current path through it: ``int |K| dA`` over the region per ampere of port
+        current for copper (the length of a strip that carries the whole current), the barrel
+        length of a via, 0 for a lumped branch.
     """
 
     port: str
@@ -173,6 +180,13 @@ class Bottleneck:
     triangles: np.ndarray
     frequency: float
     layers: tuple = ()
+    path_length: float = 0.0
+
+    @property
+    def concentration(self) -> float:
+        """Inductance share per metre of current path (H/m), the ranking key; ``inf`` for a
+        lumped branch (its inductance sits at a point)."""
+        return self.inductance / self.path_length if self.path_length > 0 else math.inf
 
     def as_dict(self, unit_scale=1.0, rank=None):
         """Plain JSON-ready dict, lengths in the case's units (metres divided by ``unit_scale``)."""
@@ -180,7 +194,10 @@ class Bottleneck:
                "y": self.y / unit_scale, "inductance_share": self.inductance_share,
                "resistance_share": self.resistance_share, "kind": self.kind,
                "inductance_h": self.inductance, "resistance_ohm": self.resistance,
-               "area": self.area / unit_scale**2, "frequency_hz": self.frequency}
+               "area": self.area / unit_scale**2, "frequency_hz": self.frequency,
+               "path_length": self.path_length / unit_scale,
+               "inductance_per_length_h_per_m": (self.concentration if self.path_length > 0
+                                                 else None)}
         if self.name:
             out["name"] = self.name
         if rank is not None:
@@ -330,8 +347,10 @@ def share_items(mesh, system, layout, lumped, ell, r):
         seg = net.branch_item[rows]
         via = layout.vias[v]
         span = f"{net.barrels['upper'][seg.min()]}-{net.barrels['lower'][seg.max()]}"
+        bz = net.barrels["z"][seg]
         items.append(ShareItem("via", via.name, span, via.x, via.y,
-                               float(ell[rows].sum()), float(r[rows].sum()), tuple(via.connects)))
+                               float(ell[rows].sum()), float(r[rows].sum()), tuple(via.connects),
+                               length=float((bz[:, 1] - bz[:, 0]).sum())))
     cent = mesh.centroids
     for b in np.flatnonzero(net.branch_kind == LUMPED):
         item = lumped[net.branch_item[b]]
@@ -502,9 +521,13 @@ def find_bottlenecks(mesh, maps, *, fraction=BOTTLENECK_FRACTION, passes=SMOOTHI
         chosen = np.zeros(mesh.n_triangles, bool)
         chosen[order[:n_take]] = True
         _, label = connected_components(triangle_adjacency(mesh, chosen), directed=False)
-        for comp in np.unique(label[chosen]):
-            tris = np.flatnonzero(chosen & (label == comp))
-            out.append(_copper_bottleneck(mesh, maps, tris))
+        regions = [_copper_bottleneck(mesh, maps, np.flatnonzero(chosen & (label == comp)))
+                   for comp in np.unique(label[chosen])]
+        # Fragments below ITEM_MIN_SHARE are dropped (a few triangles of high concentration
+        # are noise, not a bottleneck); the largest region is always kept.
+        big = max(regions, key=lambda b: b.inductance)
+        out += [b for b in regions
+                if b is big or b.inductance >= ITEM_MIN_SHARE * maps.inductance]
     for item in maps.items:
         if item.inductance_share < ITEM_MIN_SHARE * maps.inductance:
             continue
@@ -514,8 +537,8 @@ def find_bottlenecks(mesh, maps, *, fraction=BOTTLENECK_FRACTION, passes=SMOOTHI
                               resistance_share=_fraction(item.resistance_share, maps.resistance),
                               inductance=item.inductance_share, resistance=item.resistance_share,
                               area=0.0, triangles=np.zeros(0, np.int64), frequency=maps.frequency,
-                              layers=item.layers))
-    out.sort(key=lambda b: -b.inductance)
+                              layers=item.layers, path_length=item.length))
+    out.sort(key=lambda b: (-b.concentration, -b.inductance))
     return out
 
 
@@ -537,4 +560,16 @@ def _copper_bottleneck(mesh, maps, tris):
                       x=float(x), y=float(y),
                       inductance_share=_fraction(ell, maps.inductance),
                       resistance_share=_fraction(r, maps.resistance), inductance=ell, resistance=r,
-                      area=float(mesh.areas[tris].sum()), triangles=tris, frequency=maps.frequency)
+                      area=float(mesh.areas[tris].sum()), triangles=tris, frequency=maps.frequency,
+                      path_length=path_length(mesh, maps, tris))
+
+
+def path_length(mesh, maps, tris):
+    """Metres of current path through triangles ``tris``: ``int |K| dA`` per ampere of port
+    current (|K| at the centroids, summed over sublayers).
+
+    For a strip of length ``l`` that carries the whole port current it is ``l``, however wide
+    the strip; for a band that carries a third of the current it is ``l / 3``.
+    """
+    k = np.sqrt((np.abs(maps.current_density[tris]) ** 2).sum(axis=1))
+    return float((k * mesh.areas[tris]).sum())

@@ -132,6 +132,34 @@ class Solution:
                f"{len(self.frequencies)} frequencies, {self.system.network.n_branches} unknowns)"
 
 
+def check_before_meshing(case, frequencies=None, *, solve=True):
+    """Refuse in seconds a case whose mesh (and, with ``solve``, its solve) cannot fit in memory,
+    from a lower bound of its size (:func:`copperpath.solver.solve.memory.before_meshing`).
+
+    Raises
+    ------
+    copperpath.geometry.errors.InputError
+        Naming the case, the estimate, the limit and the settings to change.
+    """
+    from copperpath.solver.solve import memory
+
+    f = np.asarray(case.frequencies if frequencies is None else frequencies, float)
+    est, triangles = memory.before_meshing(case.layout, case.mesh, f_max=float(f.max(initial=0.0)),
+                                           ports=max(len(case.ports), 1), freqs=len(f))
+    memory.require_mesh(triangles, what=f"{Path(case.path).name}: the mesh")
+    if solve:
+        memory.require(est, what=f"{Path(case.path).name}: the dense solve")
+
+
+def mesh_warnings(case, mesh):
+    """Warn (:class:`CopperpathWarning`) when a tiny feature of the copper drives the mesh size."""
+    from copperpath.geometry.mesh_size import size_warnings
+
+    for line in size_warnings(mesh, case.layout, case.mesh, unit_scale=case.unit_scale,
+                              unit=case.unit, source=Path(case.path).name):
+        warnings.warn(line, CopperpathWarning, stacklevel=2)
+
+
 def solve(case, frequencies=None, method=None, *, tolerance=None, progress=None, stage=None):
     """Mesh, assemble and solve a case over its sweep.
 
@@ -177,11 +205,13 @@ def solve(case, frequencies=None, method=None, *, tolerance=None, progress=None,
         raise InputError(f"method must be 'auto', 'dense' or 'fast', got {method!r}")
     rtol = case.solver.tolerance if tolerance is None else float(tolerance)
     say = stage or (lambda text: None)
+    check_before_meshing(case, freqs)
     timing = {}
     t = time.perf_counter()
     say("meshing")
     mesh = triangulate(case.layout, case.mesh)
     timing["mesh"] = time.perf_counter() - t
+    mesh_warnings(case, mesh)
     say(f"assembling ({mesh.n_triangles} triangles)")
     t = time.perf_counter()
     system = assemble(mesh, case.layout, case.ports, case.lumped, n_freqs=len(freqs),

@@ -16,13 +16,14 @@ from copperpath.geometry.meshing import layer_copper
 from copperpath.solver.output.files import atomic_path
 from copperpath.solver.graph.network import build_network
 from copperpath.solver.output.exports.vtu import write_mesh_vtu
-from copperpath.solver.solve.system import estimate_memory
+from copperpath.solver.solve import memory
 
 SMALL_ANGLE_DEG = 25.0
 """Triangles with a smaller angle are counted (they come from sharp angles of the artwork)."""
 
 
-def write_inspect(layout, mesh, out_dir, *, unit_scale=1e-3, unit="mm", title="", ports=()):
+def write_inspect(layout, mesh, out_dir, *, unit_scale=1e-3, unit="mm", title="", ports=(),
+                  lumped=(), frequencies=(0.0,)):
     """Write ``inspect.json``, ``<layer>.png`` per layer and ``mesh.vtu`` into ``out_dir``.
 
     Parameters
@@ -38,6 +39,10 @@ def write_inspect(layout, mesh, out_dir, *, unit_scale=1e-3, unit="mm", title=""
         Name of the display unit, for axis labels.
     title : str
     ports : sequence of copperpath.geometry.model.Port
+    lumped : sequence of copperpath.geometry.model.Lumped
+    frequencies : sequence of float
+        The sweep in Hz (``sublayers = "auto"`` follows its top; the estimate counts its
+        stored currents).
 
     Returns
     -------
@@ -46,7 +51,8 @@ def write_inspect(layout, mesh, out_dir, *, unit_scale=1e-3, unit="mm", title=""
     """
     out = Path(out_dir)
     out.mkdir(parents=True, exist_ok=True)
-    info = inspect_summary(layout, mesh, ports=ports, title=title)
+    info = inspect_summary(layout, mesh, ports=ports, title=title, lumped=lumped,
+                           frequencies=frequencies)
     for index, name in enumerate(mesh.layer_names):
         _write_atomic(out / f"{_file_stem(name)}.png",
                       lambda tmp, i=index: _plot_layer(layout, mesh, i, tmp, unit_scale=unit_scale,
@@ -57,15 +63,16 @@ def write_inspect(layout, mesh, out_dir, *, unit_scale=1e-3, unit="mm", title=""
     return info
 
 
-def inspect_summary(layout, mesh, *, ports=(), title=""):
+def inspect_summary(layout, mesh, *, ports=(), title="", lumped=(), frequencies=(0.0,)):
     """The content of ``inspect.json`` (SI units).
 
     ``mesh.unknowns`` counts the current unknowns of the solve (edge currents of every
     sublayer, via-barrel segments), ``mesh.nodes`` the potentials (bulk triangles and
     equipotential regions), ``mesh.loops`` the loop currents of the dense solve, and
-    ``dense_memory_bytes`` the peak memory of the dense path
-    (:func:`copperpath.solver.solve.system.estimate_memory`, one frequency). Lumped branches (a handful) are
-    not counted.
+    ``dense_memory_bytes`` the peak memory of the dense path (:func:`copperpath.solver.solve.memory.estimate`,
+    the same estimate ``solve`` checks, sublayer unknowns of the sweep's top frequency and
+    stored currents included), ``available_memory_bytes`` what the process may use and where
+    that limit comes from.
     """
     layers = {}
     for index, layer in enumerate(layout.layers):
@@ -75,9 +82,11 @@ def inspect_summary(layout, mesh, *, ports=(), title=""):
             "islands": int(sum(1 for g in shapely.get_parts(copper) if g.area > 0.0)),
             "triangles": int(np.count_nonzero(mesh.tri_layer == index)),
         }
-    network = build_network(mesh, layout)
-    unknowns, nodes = network.n_branches, network.n_nodes
-    loops = unknowns - nodes + len(np.unique(network.bodies))
+    freqs = np.asarray(frequencies, float)
+    network = build_network(mesh, layout, lumped, f_max=float(freqs.max(initial=0.0)))
+    est = memory.from_network(network, ports=max(len(ports), 1), freqs=len(freqs))
+    unknowns, nodes, loops = network.n_branches, network.n_nodes, est.loops
+    free, source = memory.available()
     angles = mesh.angles_deg.min(axis=1) if mesh.n_triangles else np.array([180.0])
     return {
         "title": title,
@@ -96,7 +105,11 @@ def inspect_summary(layout, mesh, *, ports=(), title=""):
             "min_angle_deg": float(angles.min()),
             "small_angle_triangles": int(np.count_nonzero(angles < SMALL_ANGLE_DEG)),
         },
-        "dense_memory_bytes": estimate_memory(unknowns, loops, max(len(ports), 1)),
+        "dense_memory_bytes": est.solve_bytes,
+        "process_peak_bytes": est.total,
+        "available_memory_bytes": int(free),
+        "available_memory_source": source,
+        "fits": est.solve_bytes <= memory.USABLE_FRACTION * free,
     }
 
 

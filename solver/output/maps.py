@@ -81,6 +81,28 @@ _KINDS = (
 )
 
 
+def _draw(draw, path, *args, **kwargs):
+    """Call ``draw(path, ...)``; return ``None``, or a warning line when the picture failed.
+
+    A picture is never worth the numbers: any failure of the plotting library is turned into
+    one warning and the picture is skipped (its temporary file is removed by
+    :func:`copperpath.solver.output.files.atomic_path`)."""
+    try:
+        draw(path, *args, **kwargs)
+    except Exception as err:  # noqa: BLE001 -- a failed picture must not cost the results
+        return f"picture {path.name} skipped: {type(err).__name__}: {err}"
+    return None
+
+
+def free_copper_layers(mesh):
+    """Indices of the layers that hold bulk copper (triangles outside terminals and via pads).
+
+    A layer whose copper is all terminal or pad carries no modelled sheet current and has no
+    map."""
+    bulk = mesh.tri_region < 0
+    return [li for li in range(len(mesh.layer_names)) if (bulk & (mesh.tri_layer == li)).any()]
+
+
 def write_maps(out_dir, case, mesh, system, result):
     """Write every map and R(f)/L(f) plot into ``out_dir/maps`` and rank the bottlenecks.
 
@@ -98,16 +120,21 @@ def write_maps(out_dir, case, mesh, system, result):
     images : list of MapImage
     bottlenecks : list of dict
         The top :data:`TOP_BOTTLENECKS` of each port, JSON-ready (lengths in the case's units,
-        shares as fractions), with ``rank`` (1 = largest inductance share).
+        shares as fractions), with ``rank`` (1 = first, see :func:`copperpath.solver.analysis.post.find_bottlenecks`).
+    warnings : list of str
+        One line per picture that failed and was skipped.
     """
     folder = Path(out_dir) / "maps"
     dc, fmap, f_lim, d = map_frequencies(mesh, case, result)
-    images, bottlenecks = [], []
+    images, bottlenecks, warnings = [], [], []
     for k, port in enumerate(result.ports):
         path = folder / f"{safe_name(port)}_RL.png"
-        plot.impedance_plot(path, result, k, f_limit=f_lim)
-        images.append(MapImage(path, f"Port {port}: R(f) and L(f); dashed lines: DC values.",
-                               port, "", "rl", None))
+        failed = _draw(plot.impedance_plot, path, result, k, f_limit=f_lim)
+        if failed:
+            warnings.append(failed)
+        else:
+            images.append(MapImage(path, f"Port {port}: R(f) and L(f); dashed lines: DC values.",
+                                   port, "", "rl", None))
         if result.currents is None:
             continue
         rank_at = fmap if fmap is not None else dc
@@ -117,8 +144,8 @@ def write_maps(out_dir, case, mesh, system, result):
             found = post.find_bottlenecks(mesh, maps)[:TOP_BOTTLENECKS]
             if fi == rank_at:
                 bottlenecks += [b.as_dict(case.unit_scale, rank=n + 1) for n, b in enumerate(found)]
-            images += _port_maps(folder, case, mesh, maps, found, fi == dc, f_lim, d)
-    return images, bottlenecks
+            images += _port_maps(folder, case, mesh, maps, found, fi == dc, f_lim, d, warnings)
+    return images, bottlenecks, warnings
 
 
 def rank_bottlenecks(case, mesh, system, result):
@@ -144,25 +171,31 @@ def rank_bottlenecks(case, mesh, system, result):
     return out
 
 
-def _port_maps(folder, case, mesh, maps, found, is_dc, f_lim, d):
-    """The maps of one port at one frequency, every layer."""
+def _port_maps(folder, case, mesh, maps, found, is_dc, f_lim, d, warnings):
+    """The maps of one port at one frequency, every layer with free copper; a failed picture
+    adds a line to ``warnings``."""
     label = plot.format_frequency(maps.frequency, sep="")
     why = ("" if is_dc else f" (highest swept frequency within the quasi-static limit "
                             f"{plot.format_frequency(f_lim)} for D = {d / case.unit_scale:.3g} {case.unit})")
     out = []
-    for li, layer in enumerate(mesh.layer_names):
-        if not (mesh.tri_layer == li).any():
-            continue
+    for li in free_copper_layers(mesh):
+        layer = mesh.layer_names[li]
         stem = f"{safe_name(maps.port)}_{safe_name(layer)}"
         for kind, tag, draw, words in _KINDS:
             path = folder / f"{stem}_{tag}_{label}.png"
-            draw(path, mesh, case, maps, layer_index=li, markers=found)
+            failed = _draw(draw, path, mesh, case, maps, layer_index=li, markers=found)
+            if failed:
+                warnings.append(failed)
+                continue
             out.append(MapImage(path, f"Port {maps.port}, layer {layer}, "
                                       f"{plot.format_frequency(maps.frequency)}{why}: {words}.",
                                 maps.port, layer, kind, maps.frequency))
         if is_dc:
             path = folder / f"{stem}_V_DC.png"
-            plot.ir_drop_map(path, mesh, case, maps, layer_index=li)
+            failed = _draw(plot.ir_drop_map, path, mesh, case, maps, layer_index=li)
+            if failed:
+                warnings.append(failed)
+                continue
             out.append(MapImage(path, f"Port {maps.port}, layer {layer}, DC: IR drop "
                                       "(potential per ampere of port current).",
                                 maps.port, layer, "potential", 0.0))

@@ -10,6 +10,7 @@ from copperpath.solver.output.exports.result_json import write_result_json
 from copperpath.solver.output.exports.spice import write_spice
 from copperpath.solver.output.exports.touchstone import write_touchstone
 from copperpath.solver.output.exports.vtu import write_vtu
+from copperpath.solver.solve.finite import require_finite
 from copperpath.solver.output.maps import map_frequencies, write_maps
 from copperpath.solver.output.formatting import engineering, format_frequency
 from copperpath.solver.output.report import write_report
@@ -39,8 +40,14 @@ def write_outputs(case, mesh, system, result, out, *, timing=None, extra_section
     dict
         The data written to ``result.json``, plus ``"files"`` (names written),
         ``"spice_fit_error"``, ``"estimate"`` (the circuit estimate or ``None``) and
-        ``"images"`` (the maps).
+        ``"images"`` (the maps) and ``"warnings"`` (pictures that failed and were skipped).
+
+    Raises
+    ------
+    copperpath.geometry.errors.InputError
+        Any R or L is not finite (:func:`copperpath.solver.solve.finite.require_finite`); nothing is written.
     """
+    require_finite(result, case.layout.layers, source=str(case.path))
     out = Path(out)
     out.mkdir(parents=True, exist_ok=True)
     stem = Path(case.path).stem
@@ -50,7 +57,7 @@ def write_outputs(case, mesh, system, result, out, *, timing=None, extra_section
     write_touchstone(out / f"{stem}_Z.s{n}p", result)
     write_touchstone(out / f"{stem}_S.s{n}p", result, parameter="S")
     fitted = write_spice(out / f"{stem}.cir", result, name=stem)
-    images, bottlenecks = write_maps(out, case, mesh, system, result)
+    images, bottlenecks, picture_warnings = write_maps(out, case, mesh, system, result)
     if result.currents is not None:
         dc, fmap, _, _ = map_frequencies(mesh, case, result)
         write_vtu(out / "mesh.vtu", mesh, system, result, case,
@@ -62,13 +69,14 @@ def write_outputs(case, mesh, system, result, out, *, timing=None, extra_section
     sections = list(extra_sections)
     sections.append(exports_section(stem, n, fitted.max_relative_error))
     write_report(out, case, result, summary, images, bottlenecks=bottlenecks,
-                 extra_sections=sections,
+                 warnings=picture_warnings, extra_sections=sections,
                  lead_sections=[circuit_section(estimate)] if estimate is not None else ())
     summary["files"] = ["result.json", "impedance.csv", f"{stem}_Z.s{n}p", f"{stem}_S.s{n}p",
                         f"{stem}.cir", "mesh.vtu", "report.html", "report.md", "maps/"]
     summary["spice_fit_error"] = fitted.max_relative_error
     summary["estimate"] = estimate
     summary["images"] = images
+    summary["warnings"] = picture_warnings
     return summary
 
 
@@ -146,11 +154,15 @@ def format_table(case, result, summary=None):
             label = format_frequency(f)
             lines.append(f"  {label:>12}  {engineering(r[i, k, k], 'ohm'):>12}  {engineering(ell[i, k, k], 'H'):>12}")
     if summary and summary.get("bottlenecks"):
-        lines.append(f"bottlenecks (share of loop L and R; x, y in {case.unit}):")
+        lines.append(f"bottlenecks, most concentrated first (L share per length of current path, "
+                     f"share of loop L and R; x, y in {case.unit}):")
         for b in summary["bottlenecks"]:
-            where = (f"{b['layer']} at ({b['x']:.3g}, {b['y']:.3g})" if b.get("layer")
-                     else b.get("name", b.get("kind", "")))
-            lines.append(f"  #{b.get('rank', '?')} port {b['port']}: {where:<28} "
+            where = f"{b['layer']} at ({b['x']:.3g}, {b['y']:.3g})"
+            if b.get("name"):
+                where = f"{b['kind']} {b['name']} ({b['layer']})"
+            per = b.get("inductance_per_length_h_per_m")
+            per = f"{per * 1e6:7.3g} nH/mm" if per is not None else "      point"
+            lines.append(f"  #{b.get('rank', '?')} port {b['port']}: {where:<28} {per}   "
                          f"L {100 * b['inductance_share']:5.1f} %   R {100 * b['resistance_share']:5.1f} %")
     if summary and summary.get("estimate") is not None:
         lines.append(format_estimate(summary["estimate"]))
@@ -172,5 +184,9 @@ def format_inspect(case, info):
     m = info["mesh"]
     lines.append(f"  mesh: {m['triangles']} triangles, {m['unknowns']} current unknowns, "
                  f"minimum angle {m['min_angle_deg']:.1f} deg")
-    lines.append(f"  dense solve needs about {info['dense_memory_bytes'] / 2**20:.1f} MiB")
+    verdict = "fits" if info["fits"] else "does NOT fit: solve would refuse"
+    lines.append(f"  dense solve needs about {info['dense_memory_bytes'] / 2**20:.1f} MiB "
+                 f"(process peak {info['process_peak_bytes'] / 2**20:.0f} MiB); "
+                 f"{info['available_memory_bytes'] / 2**30:.3g} GiB available under "
+                 f"{info['available_memory_source']}: {verdict}")
     return "\n".join(lines)

@@ -90,16 +90,23 @@ def _rl_tables(case, result):
     return out
 
 
+def _per_length(b):
+    per = b.get("inductance_per_length_h_per_m")
+    return f"{per * 1e6:.3g}" if per is not None else "point"
+
+
 def _bottleneck_table(bottlenecks, unit):
     rows = []
     for b in bottlenecks:
         where = b.get("name") or "-"
         rows.append((str(b.get("rank", "")), b["port"], b.get("kind", ""), where, b["layer"],
-                     f"{b['x']:.4g}", f"{b['y']:.4g}", f"{100 * b['inductance_share']:.1f}",
+                     f"{b['x']:.4g}", f"{b['y']:.4g}", _per_length(b),
+                     f"{100 * b['inductance_share']:.1f}",
                      engineering(b.get("inductance_h"), "H", 3), f"{100 * b['resistance_share']:.1f}",
                      f"{b.get('area', 0.0):.3g}", format_frequency(b.get("frequency_hz", 0.0))))
     return table(["#", "port", "kind", "item", "layer", f"x ({unit})", f"y ({unit})",
-                   "L share (%)", "L", "R share (%)", f"area ({unit}^2)", "at"], rows, left=5)
+                  "L per length (nH/mm)", "L share (%)", "L", "R share (%)", f"area ({unit}^2)", "at"],
+                 rows, left=5)
 
 
 def _image(item):
@@ -195,9 +202,11 @@ def write_report(out_dir, case, result, summary=None, images=(), *, bottlenecks=
                                        for p, c, k in pics if k == "rl"]))
     if bottlenecks:
         h, m = _bottleneck_table(bottlenecks, case.unit)
-        text = ("Regions of copper, vias and lumped branches that hold the largest parts of each "
-                "port's loop inductance (numbered on the maps). Shares are fractions of the port's "
-                "own L and R at the frequency given.")
+        text = ("Regions of copper, vias and lumped branches where each port's loop inductance is "
+                "most concentrated (numbered on the maps), ranked by inductance share per length "
+                "of current path: the places where each millimetre of path costs the most loop L, "
+                "however large a region is drawn. A lumped branch is a point and comes first. "
+                "Shares are fractions of the port's own L and R at the frequency given.")
         sections.append(("Bottlenecks", [(f"<p>{_esc(text)}</p>\n{h}", f"{text}\n\n{m}")]))
     maps = [(_figure_html(p, c), _figure_md(p, c, out_dir)) for p, c, k in pics if k != "rl"]
     if maps:

@@ -109,10 +109,13 @@ def side_by_side_images(out, views, titles):
 
     Returns
     -------
-    list of (pathlib.Path, str)
+    images : list of (pathlib.Path, str)
         Paths and captions, layers top first, current density before inductance share.
+    failed : list of str
+        One line per picture that could not be drawn (skipped: a picture never costs the
+        comparison).
     """
-    images = []
+    images, failed = [], []
     port = views[0].port
     for layer in _layers_top_down(views):
         have = [(t, v) for t, v in zip(titles, views) if layer in v.mesh.layer_names
@@ -121,23 +124,28 @@ def side_by_side_images(out, views, titles):
         j_panels = [(f"{t}{head}", v.mesh, v.case,
                      np.sqrt((np.abs(v.current_density) ** 2).sum(axis=1)) * 1e-3, v.current_density)
                     for t, v in have]
-        path = Path(out) / "maps" / f"compare_{safe_name(port)}_{safe_name(layer)}_J.png"
-        side_by_side_map(path, j_panels, layer=layer,
-                         title=f"Port {port}, layer {layer}: sheet current density |J| "
-                               f"(one colour scale for all variants)",
-                         label="|J| (A/mm per A of port current)")
-        images.append((path, f"Layer {layer}: |J| of port {port} in each variant that has copper "
-                             f"on it, one shared logarithmic colour scale."))
         l_panels = [(f"{t}{head}", v.mesh, v.case, v.inductance_density * 1e3, None) for t, v in have]
-        path = Path(out) / "maps" / f"compare_{safe_name(port)}_{safe_name(layer)}_L.png"
-        side_by_side_map(path, l_panels, layer=layer, cmap="berlin", log=False, symmetric=True,
-                         title=f"Port {port}, layer {layer}: where the loop inductance lives "
-                               f"(signed share, one colour scale for all variants)",
-                         label="signed inductance share (nH/mm$^2$)")
-        images.append((path, f"Layer {layer}: inductance share per area of port {port} in each "
-                             f"variant, signed (negative: opposing currents such as eddy currents "
-                             f"in a pour), one shared colour scale."))
-    return images
+        pictures = (
+            ("J", j_panels, {}, "sheet current density |J| (one colour scale for all variants)",
+             "|J| (A/mm per A of port current)",
+             f"Layer {layer}: |J| of port {port} in each variant that has copper on it, one shared "
+             f"logarithmic colour scale."),
+            ("L", l_panels, {"cmap": "berlin", "log": False, "symmetric": True},
+             "where the loop inductance lives (signed share, one colour scale for all variants)",
+             "signed inductance share (nH/mm$^2$)",
+             f"Layer {layer}: inductance share per area of port {port} in each variant, signed "
+             f"(negative: opposing currents such as eddy currents in a pour), one shared colour "
+             f"scale."))
+        for tag, panels, style, words, label, caption in pictures:
+            path = Path(out) / "maps" / f"compare_{safe_name(port)}_{safe_name(layer)}_{tag}.png"
+            try:
+                side_by_side_map(path, panels, layer=layer, title=f"Port {port}, layer {layer}: {words}",
+                                 label=label, **style)
+            except Exception as err:  # noqa: BLE001 -- a failed picture must not cost the results
+                failed.append(f"picture {path.name} skipped: {type(err).__name__}: {err}")
+                continue
+            images.append((path, caption))
+    return images, failed
 
 
 def loop_contents(view):

@@ -52,6 +52,17 @@ def _potentials(system, drop):
     return phi
 
 
+def _singular_message(system):
+    """Why the DC loop system is singular: a closed loop of zero-resistance lumped branches when
+    the case has such branches, else a sheet or barrel resistance out of floating-point range."""
+    net = system.network
+    if len(net.lumped_rl) and (net.lumped_rl[:, 0] == 0).any():
+        return ("the resistive system is singular: lumped branches of zero resistance form a "
+                "closed loop (give one of them a resistance)")
+    return ("the resistive system is singular: a resistance overflows or vanishes in floating "
+            "point (check each [[layer]] conductivity and thickness, and via plating)")
+
+
 def _real_matmul(A, X):
     """``A @ X`` for a real matrix ``A`` and a complex ``X`` without a complex copy of ``A``."""
     return A @ X.real + 1j * (A @ X.imag)
@@ -166,8 +177,7 @@ def solve(system, frequencies, *, title="", keep_currents=True, progress=None,
             try:
                 x = -spla.splu(Rc).solve(bR)
             except RuntimeError:
-                raise InputError("the resistive system is singular: lumped branches of zero "
-                                 "resistance form a closed loop") from None
+                raise InputError(_singular_message(system)) from None
             z = pRp + bR.T @ x
             I = C @ x + Pd
             dc_inductance = I.T @ (L @ I)

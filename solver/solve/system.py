@@ -10,6 +10,7 @@ import scipy.sparse as sp
 
 from copperpath.geometry.errors import InputError
 from copperpath.solver.elements import barrels
+from copperpath.solver.solve import memory
 from copperpath.solver.elements import partial
 from copperpath.solver.graph.loops import LoopBasis, loop_basis
 from copperpath.solver.graph.network import BARREL, EDGE, LUMPED, Network, build_network
@@ -57,44 +58,6 @@ class System:
                 f"L {self.L.nbytes / 2**20:.1f} MiB)")
 
 
-def estimate_memory(n_branches, n_loops, n_ports=1, n_freqs=1):
-    """Peak bytes of the dense path.
-
-    Parameters
-    ----------
-    n_branches, n_loops, n_ports, n_freqs : int
-
-    Returns
-    -------
-    int
-        ``L`` (8 B^2) plus the loop products (8 n B + 8 n^2), two complex loop matrices per
-        frequency (32 n^2) and the stored currents (16 F P B).
-    """
-    b, n = n_branches, n_loops
-    return int(8 * b * b + 8 * n * b + 8 * n * n + 32 * n * n + 16 * n_freqs * n_ports * b)
-
-
-def available_memory():
-    """Bytes of memory available to this process (Linux ``MemAvailable``, else 8 GiB)."""
-    try:
-        with open("/proc/meminfo") as f:
-            for line in f:
-                if line.startswith("MemAvailable:"):
-                    return int(line.split()[1]) * 1024
-    except OSError:
-        pass
-    return 8 * 2**30
-
-
-def _check_memory(n_branches, n_loops, n_ports, n_freqs, limit):
-    need = estimate_memory(n_branches, n_loops, n_ports, n_freqs)
-    if need > limit:
-        raise InputError(
-            f"the mesh has {n_branches} current unknowns; the dense solve needs about "
-            f"{need / 2**30:.1f} GiB but {limit / 2**30:.1f} GiB are available: raise [mesh] "
-            f"max_edge and min_edge, or crop the copper with [window]")
-
-
 def _barrel_matrices(network, layout):
     """Resistance (diagonal) and inductance (dense) of the via barrel segments."""
     bz = network.barrels["z"]
@@ -130,7 +93,8 @@ def assemble(mesh, layout, ports, lumped=(), *, n_freqs=1, f_max=0.0, memory_lim
     f_max : float
         Highest frequency in Hz (for ``sublayers = "auto"``).
     memory_limit : int, optional
-        Bytes the dense path may use; default 80 % of the available memory.
+        Bytes the dense path may use; default :func:`copperpath.solver.solve.memory.require`'s (90 % of what
+        :func:`copperpath.solver.solve.memory.available` reports).
 
     Returns
     -------
@@ -156,8 +120,9 @@ def assemble(mesh, layout, ports, lumped=(), *, n_freqs=1, f_max=0.0, memory_lim
     port_paths = sp.csc_matrix(np.array(paths).T.reshape(network.n_branches, len(ports)))
     timing["topology"] = time.perf_counter() - t
 
-    limit = memory_limit if memory_limit is not None else int(0.8 * available_memory())
-    _check_memory(network.n_branches, basis.loops.shape[1], len(ports), n_freqs, limit)
+    memory.require(memory.estimate(network.n_branches, basis.loops.shape[1], network.n_nodes,
+                                   ports=max(len(ports), 1), freqs=n_freqs),
+                   limit=memory_limit, what="the dense solve")
 
     t = time.perf_counter()
     nb = network.n_branches
