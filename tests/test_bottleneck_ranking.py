@@ -145,17 +145,21 @@ COARSE = MeshOptions(max_edge=1.6e-3, min_edge=0.6e-3)
 
 @pytest.mark.parametrize("name", BUCK)
 def test_buck_variants_rank_the_fets_then_the_loop_copper(name):
-    """The FETs' package inductance (0.3 nH each, lumped: a point) comes first in every
-    variant; in the baseline the first copper is the L4 return riser up the right-hand side,
-    the long detour of the return (x = 13..16 mm, y = 4.6..18.7 mm on L4)."""
+    """Copper first: in the baseline the first bottleneck is the L4 return riser up the
+    right-hand side, the long detour of the return (x = 13..16 mm, y = 4.6..18.7 mm on L4); the
+    FETs' package inductance (0.3 nH each, lumped components a layout cannot widen) follows the
+    copper and vias in every variant."""
     found = _buck_ranking(name, COARSE)
-    assert {b.name for b in found[:2]} == {"Q1", "Q2"} and all(b.kind == "lumped" for b in found[:2])
+    kinds = [b.kind for b in found]
+    assert {b.name for b in found if b.kind == "lumped"} == {"Q1", "Q2"}
+    assert kinds[0] != "lumped" and kinds[-2:] == ["lumped", "lumped"], kinds
     copper = [b for b in found if b.kind == "copper"]
     assert copper, found
     if name == "buck_baseline.toml":
-        top = copper[0]
-        assert top.layer == "L4" and 13e-3 <= top.x <= 16e-3 and 4.6e-3 <= top.y <= 18.7e-3, top
-    keys = [b.concentration for b in found]
+        top = found[0]
+        assert top.kind == "copper" and top.layer == "L4", top
+        assert 13e-3 <= top.x <= 16e-3 and 4.6e-3 <= top.y <= 18.7e-3, top
+    keys = [b.concentration for b in found if b.kind != "lumped"]
     assert keys == sorted(keys, reverse=True)
 
 

@@ -538,7 +538,9 @@ def find_bottlenecks(mesh, maps, *, fraction=BOTTLENECK_FRACTION, passes=SMOOTHI
                               inductance=item.inductance_share, resistance=item.resistance_share,
                               area=0.0, triangles=np.zeros(0, np.int64), frequency=maps.frequency,
                               layers=item.layers, path_length=item.length))
-    out.sort(key=lambda b: (-b.concentration, -b.inductance))
+    # Components (lumped branches) are points with no current path to widen: they follow the
+    # copper and vias, which a layout change can improve, instead of heading every ranking.
+    out.sort(key=lambda b: (b.kind == "lumped", -b.concentration, -b.inductance))
     return out
 
 

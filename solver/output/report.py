@@ -205,7 +205,7 @@ def write_report(out_dir, case, result, summary=None, images=(), *, bottlenecks=
         text = ("Regions of copper, vias and lumped branches where each port's loop inductance is "
                 "most concentrated (numbered on the maps), ranked by inductance share per length "
                 "of current path: the places where each millimetre of path costs the most loop L, "
-                "however large a region is drawn. A lumped branch is a point and comes first. "
+                "however large a region is drawn. Lumped branches (components) follow the copper and vias. "
                 "Shares are fractions of the port's own L and R at the frequency given.")
         sections.append(("Bottlenecks", [(f"<p>{_esc(text)}</p>\n{h}", f"{text}\n\n{m}")]))
     maps = [(_figure_html(p, c), _figure_md(p, c, out_dir)) for p, c, k in pics if k != "rl"]
