@@ -21,7 +21,7 @@ Writes into the output folder (the reference files into ``--reference`` if given
 - ``stackup.kicad_sexpr``: the board file's own ``(stackup ...)`` section, copied verbatim,
   so that tests can compare the job file with what the board states;
 - ``pads.json``: every pad as ``pcbnew`` sees it (reference, number, net, centre in the
-  Gerber frame in mm, copper layers), a reference for the X2 reader.
+  Gerber frame in mm, shape, size, orientation, copper layers), a reference for the X2 reader.
 
 ``--job-only`` writes only the job file (with the copper and outline Gerber files it names
 deleted again), ``stackup.kicad_sexpr`` and nothing else.
@@ -106,14 +106,19 @@ def write_drills(board, out):
 
 
 def pad_table(board):
-    """Every pad: reference, number, net, centre (Gerber frame: y up, mm), copper layers."""
+    """Every pad: reference, number, net, centre (Gerber frame: y up, mm), shape, size (mm) and
+    orientation (degrees, board frame), copper layers."""
     rows = []
+    enabled = set(board.GetEnabledLayers().CuStack())
     for fp in board.GetFootprints():
         for pad in fp.Pads():
             pos = pad.GetPosition()
-            layers = [board.GetLayerName(la) for la in pad.GetLayerSet().CuStack()]
+            layers = [board.GetLayerName(la) for la in pad.GetLayerSet().CuStack() if la in enabled]
             rows.append({"ref": fp.GetReference(), "pad": pad.GetNumber(), "net": pad.GetNetname(),
                          "x_mm": pcbnew.ToMM(pos.x), "y_mm": -pcbnew.ToMM(pos.y),
+                         "shape": pcbnew.PAD_SHAPE_T_asString(pad.GetShape()),
+                         "size_mm": [pcbnew.ToMM(pad.GetSize().x), pcbnew.ToMM(pad.GetSize().y)],
+                         "angle_deg": pad.GetOrientationDegrees(),
                          "layers": layers, "through_hole": pad.GetAttribute() == pcbnew.PAD_ATTRIB_PTH})
     return rows
 

@@ -131,7 +131,7 @@ def _cmd_inspect(args):
     out = _out_dir(args, args.case)
     mesh = triangulate(case.layout, case.mesh)
     info = write_inspect(case.layout, mesh, out, unit_scale=case.unit_scale, unit=case.unit,
-                         title=case.title, ports=case.ports)
+                         title=case.title, ports=case.ports, board=case.board)
     from solver.outputs import format_inspect
     print(format_inspect(case, info))
     print(f"wrote {out}/")
