@@ -214,7 +214,7 @@ def test_unknown_pad_is_an_input_error_with_the_closest_matches(tmp_path, capsys
 
 def test_unknown_pad_in_a_terminal_table_and_unknown_net(tmp_path):
     path = _job_case(tmp_path, '[[terminal]]\nname = "x"\npad = "U4.9"\n')
-    with pytest.raises(InputError, match=r"\[\[terminal\]\] 'x': 'pad' names pad 'U4.9'.*closest: 'U4\."):
+    with pytest.raises(InputError, match=r"\[\[terminal\]\] 'x': 'pad' names pad 'U4.9'.*closest: .*'U4.8'"):
         load_case(path)
     path = _job_case(tmp_path)
     path.write_text(path.read_text().replace('nets = ["Net-(D10-Pad2)"]', 'nets = ["VPP2"]'))
@@ -225,10 +225,15 @@ def test_unknown_pad_in_a_terminal_table_and_unknown_net(tmp_path):
         load_case(path)
 
 
-def _drawn(p, layers):
-    """A pad of pcbnew's table drawn by coordinates: a circle, rectangle or obround polygon."""
+def _drawn(p, layers, grow=0.002):
+    """A pad of pcbnew's table drawn by coordinates: a circle, rectangle or obround polygon,
+    ``grow`` mm larger all round: an outline on the pad's own edge, polygonised otherwise than
+    the Gerber reader's, would leave slivers of bulk copper between two nearly equal curves.
+    (The loop below loses about 3.5 nH per mm that its four terminals grow, measured with
+    grow = 0.02 to 0.1 mm: 2 um cost about 0.1 %.)"""
     x, y = p["x_mm"], p["y_mm"]
     w, h = p["size_mm"] if round(p["angle_deg"]) % 180 == 0 else p["size_mm"][::-1]
+    w, h = w + 2 * grow, h + 2 * grow
     on = f"layer = {json.dumps(layers)}"
     if p["shape"].endswith("RECT"):
         return f"rect = [{x - w / 2}, {y - h / 2}, {x + w / 2}, {y + h / 2}]\n{on}"
@@ -249,7 +254,7 @@ def _inductance(case):
     from solver.system import assemble
 
     freqs = np.array([1e6])
-    mesh = triangulate(case.layout, MeshOptions(max_edge=1.0 * MM, min_edge=0.3 * MM))
+    mesh = triangulate(case.layout, MeshOptions(max_edge=0.5 * MM, min_edge=0.15 * MM))
     system = assemble(mesh, case.layout, case.ports, case.lumped, n_freqs=1, f_max=freqs[-1])
     return solve(system, freqs, title=case.title).inductance[0, 0, 0]
 
