@@ -289,3 +289,37 @@ between = ["D10.2", "D10.1"]
     # about 40 mm of 0.6-1.5 mm wide trace: some tens of nH (about 1 nH/mm for a thin trace far
     # from its return, common practice)
     assert 5e-9 < la < 80e-9
+
+
+def test_inspect_lists_components_nets_and_stackup(tmp_path, capsys, kicad_pads):
+    path = _job_case(tmp_path)
+    assert main(["inspect", str(path), "--out", str(tmp_path / "out")]) == 0
+    out = capsys.readouterr().out
+    info = json.loads((tmp_path / "out" / "inspect.json").read_text())
+    assert {"layers", "vias", "terminals", "ports", "mesh", "dense_memory_bytes"} <= set(info)
+    fab = info["fabrication"]
+    # every pad of pcbnew's table, with its net and layers
+    for p in kicad_pads:
+        entry = fab["components"][p["ref"]][p["pad"]]
+        assert entry["net"] == (p["net"] or "N/C")
+        assert entry["layers"] == [{"top_layer": "L1", "bottom_layer": "L2"}[n] for n in p["layers"]]
+    assert fab["window"] is True and fab["net_filter"] == {"nets": ["Net-(D10-Pad2)"], "others": "drop"}
+    # net areas per layer inside the window: the switch node's copper is what the case keeps
+    sw = fab["nets"]["Net-(D10-Pad2)"]
+    assert set(sw) == {"L1", "L2"} and all(a > 0 for a in sw.values())
+    assert [la["job_name"] for la in fab["stackup"]] == ["top_layer", "bottom_layer"]
+    assert fab["job"]["board_thickness_m"] == pytest.approx(1.6e-3)
+    assert "U4: 1 = Net-(C4-Pad1), 2 = Net-(RV1-Pad2)" in out and "L1: z 1.545 mm" in out
+
+
+def test_bundled_case_needs_no_coordinates_and_no_stackup():
+    import tomllib
+
+    path = ROOT / "cases" / "pic_programmer_loop.toml"
+    doc = tomllib.loads(path.read_text())
+    assert "layer" not in doc and "terminal" not in doc and "copper" not in doc and "via" not in doc
+    case = load_case(path)
+    assert [la.name for la in case.layout.layers] == ["L1", "L2"]
+    assert {t.name for t in case.layout.terminals} == {"U4.8", "U4.7", "D10.2", "D10.1", "C3.1", "C3.2"}
+    kept = [n for n in case.notes if "hold" in n and "others = \"drop\" keeps" in n]
+    assert len(kept) == 2                                       # one line per layer
