@@ -640,7 +640,7 @@ def _fabrication(item):
 def _job_layers(path, items, fab, opts, unit):
     """``[[layer]]`` items from the job file's stackup, merged with the explicit ones by name."""
     if opts is None or opts["stackup"] is None:
-        return items, []
+        return items, [], []
     job = fab.read_job()
     if job is None:
         raise input_error(path, "[fabrication]", "stackup = \"job\" needs a Gerber job file (*.gbrjob) "
@@ -662,7 +662,30 @@ def _job_layers(path, items, fab, opts, unit):
     for it in explicit.values():
         out.append(it)
         notes.append(f"stackup: layer '{it.name}' from its [[layer]] table (not in the job file)")
-    return out, notes
+    more, warnings = _job_files_check(job, fab)
+    return out, notes + more, [f"{path}: [fabrication]: {w}" for w in warnings]
+
+
+def _job_files_check(job, fab):
+    """Notes and warnings comparing the job file's FilesAttributes with the scan's copper files."""
+    listed = {path.replace("\\", "/").rsplit("/", 1)[-1]: int(ff[1][1:]) for path, ff in job.files.items()
+              if len(ff) >= 2 and ff[0] == "Copper" and ff[1][1:].isdigit()}
+    name = Path(job.source).name
+    lines, warnings = [], []
+    if listed and len(listed) != len(job.copper):
+        warnings.append(f"{name} lists {len(listed)} copper files but its "
+                     f"MaterialStackup has {len(job.copper)} copper layers")
+    for number, label in fab.copper.items():
+        short = label.replace("\\", "/").rsplit("/", 1)[-1].rsplit("!", 1)[-1]
+        if short in listed and listed[short] != number:
+            warnings.append(f"{name} lists {short} as copper L{listed[short]}, "
+                         f"its own FileFunction says L{number}; the file's attribute is used")
+        elif short not in listed and listed:
+            lines.append(f"stackup: {short} (copper L{number}) is not in {name}'s FilesAttributes")
+    if listed and not lines and not warnings:
+        lines.append(f"stackup: {name} FilesAttributes agree with the copper files' X2 layers "
+                     f"(L1..L{len(listed)})")
+    return lines, warnings
 
 
 # ----------------------------------------------------------------------------- fabrication data
@@ -816,7 +839,7 @@ def load_case(path, *, read_artwork=None):
         _check_unique(items)
     opts = _fabrication(singles.get("fabrication"))
     fab = scan(opts["source"]) if opts is not None else None
-    layer_items, stack_notes = _job_layers(path, arrays["layer"], fab, opts, doc["unit"])
+    layer_items, stack_notes, stack_warnings = _job_layers(path, arrays["layer"], fab, opts, doc["unit"])
     layers = [_layer(it) for it in layer_items]
     _check_stackup(path, layers, layer_items)
     layers = sorted(layers, key=lambda la: -la.z)
@@ -831,7 +854,7 @@ def load_case(path, *, read_artwork=None):
     scale = unit_scale(doc["unit"])
     artwork, more_vias, notes, warnings, contents = _board_inputs(
         path, layers, drills, fab, opts, read_artwork, window, scale, doc["unit"])
-    notes = stack_notes + notes
+    notes, warnings = stack_notes + notes, stack_warnings + warnings
     vias += more_vias
     pads = _Pads(contents.pads if contents else {}, window, opts and opts["nets"], opts and opts["others"])
     terminals = [t for it in arrays["terminal"] for t in _terminal(it, names, pads)]

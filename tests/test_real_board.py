@@ -323,3 +323,16 @@ def test_bundled_case_needs_no_coordinates_and_no_stackup():
     assert {t.name for t in case.layout.terminals} == {"U4.8", "U4.7", "D10.2", "D10.1", "C3.1", "C3.2"}
     kept = [n for n in case.notes if "hold" in n and "others = \"drop\" keeps" in n]
     assert len(kept) == 2                                       # one line per layer
+
+
+def test_job_files_attributes_are_checked_against_the_copper_files(tmp_path):
+    import shutil
+
+    fab = tmp_path / "fab"
+    shutil.copytree(FAB, fab)
+    job = fab / "pic_programmer-job.gbrjob"
+    job.write_text(job.read_text().replace('"Copper,L1,Top"', '"Copper,L9,Top"'))
+    case = load_case(write_case(tmp_path, _job_case(tmp_path).read_text().replace(str(FAB), str(fab))))
+    assert any("lists pic_programmer-top_layer.gbr as copper L9, its own FileFunction says L1" in w
+               for w in case.warnings)
+    assert any("FilesAttributes agree" in n for n in load_case(_job_case(tmp_path)).notes)
