@@ -333,7 +333,8 @@ def _layer(item):
 
 def _check_stackup(path, layers, items):
     if not layers:
-        raise input_error(path, None, "no [[layer]]: at least one copper layer is required")
+        raise input_error(path, None, "no [[layer]]: at least one copper layer is required "
+                          "(or [fabrication] stackup = \"job\" with a Gerber job file)")
     order = sorted(zip(layers, items), key=lambda p: -p[0].z)
     for (upper, _), (lower, it) in zip(order, order[1:]):
         if lower.z_top > upper.z * (1 + 1e-12) + 1e-15:

@@ -51,10 +51,10 @@ from shapely.errors import GEOSException
 from shapely.geometry import MultiPolygon
 
 from geometry.errors import input_error
-from geometry.formats.x2 import ObjectAttributes
 from geometry.formats.gerber_macros import (MacroError, chord_count, compile_macro, disk_polygon,
                                             evaluate_macro, rect_polygon, regular_ngon,
                                             segments_per_quarter)
+from geometry.formats.x2 import ObjectAttributes
 
 __all__ = ["Artwork", "read", "read_text", "DEFAULT_CHORD"]
 
