@@ -40,7 +40,7 @@ import shapely
 from geometry.errors import input_error
 from geometry.model import Via
 
-SIMPLIFY = 5e-6
+SIMPLIFY = 2e-6
 """Tolerance in metres to which fabrication copper is simplified (see the module docstring)."""
 
 __all__ = ["BoardInputs", "BoardContents", "span_layers", "file_span", "drill_vias", "fabrication_inputs"]
