@@ -27,15 +27,29 @@ Decisions not spelled out in the design:
   drill files (a drill file that a ``[[drill]]`` table names is read only once). What went
   where is in ``Case.notes``; the readers' findings and skipped holes in ``Case.warnings``.
   Errors in these files name the file and line.
+- Real-board inputs (Gerber X2 object attributes and the job file, see
+  :mod:`copperpath.geometry.formats.x2` and :mod:`copperpath.geometry.formats.gerber_job`):
+  ``[[terminal]] pad = "U4.8"`` takes the pad's copper from every fabrication copper layer
+  that has it (a through-hole pad: one terminal on all of them; ``layer`` picks one); a drawn
+  terminal's ``layer`` may be a list (the same shape on each: one terminal across them); a
+  ``pad`` terminal without a ``name`` is named after the pad. A port or lumped branch may
+  name a pad instead of a terminal: the pad's terminal (the ``[[terminal]]`` that names it,
+  else a new terminal named after the pad). Unknown pads and nets are input errors that name
+  the closest matches. ``[fabrication] nets`` / ``others`` filter the copper by net (see
+  :mod:`copperpath.geometry.formats.board`). ``[fabrication] stackup = "job"`` makes layers ``L1`` ..
+  ``Ln`` (top down) from the job file; a ``[[layer]]`` table of the same name overrides the
+  keys it gives, one of another name adds a layer.
 """
 from __future__ import annotations
 
+import difflib
 import math
 import tomllib
 from dataclasses import dataclass
 from pathlib import Path
 
 import numpy as np
+import shapely
 
 from copperpath.geometry import shapes
 from copperpath.geometry.connectivity import bodies, floating_islands
@@ -43,6 +57,7 @@ from copperpath.geometry.errors import input_error
 from copperpath.geometry.formats import board
 from copperpath.geometry.formats import read_artwork as read_gerber
 from copperpath.geometry.formats import read_drills
+from copperpath.geometry.formats.board import BoardContents
 from copperpath.geometry.formats.fabrication import scan
 from copperpath.geometry.limits import (BOARD_EXTENT, RANGES, MAX_CASE_BYTES, MAX_FREQUENCIES, MAX_SUBLAYERS, MAX_VIAS,
                              MIN_LENGTH, as_float, coordinate_ok, in_range, range_text, read_regular,
@@ -341,6 +356,8 @@ def _merge_array(items, table, entries, path, unit):
         if problem or name == "":
             raise input_error(path, item.label, f"'name' {problem or 'is empty'}; expected printable text")
         item.name, item.named = name, name is not None
+        if name is None and table == "terminal" and isinstance(entry.get("pad"), str):
+            item.name = entry["pad"]                    # a pad terminal is named after its pad
         remove = entry.get("remove", False)
         if not isinstance(remove, bool):
             raise input_error(path, item.label, f"'remove' must be true or false, got {_show(remove)}")
@@ -384,7 +401,8 @@ def _layer(item):
 
 def _check_stackup(path, layers, items):
     if not layers:
-        raise input_error(path, None, "no [[layer]]: at least one copper layer is required")
+        raise input_error(path, None, "no [[layer]]: at least one copper layer is required "
+                          "(or [fabrication] stackup = \"job\" with a Gerber job file)")
     order = sorted(zip(layers, items), key=lambda p: -p[0].z)
     for (upper, _), (lower, it) in zip(order, order[1:]):
         if lower.z_top > upper.z * (1 + 1e-12) + 1e-15:
@@ -501,35 +519,97 @@ def _drill(item, layers):
             "plating": f.ranged("plating", DEFAULT_PLATING, "a positive length", length=True)}
 
 
-def _terminal(item, names):
-    f = _Fields(item, ("name", "layer", "rect", "circle", "polygon", "holes"))
-    layer = _layer_name(f, "layer", names)
-    return Terminal(item.name, layer, _shape(f, ("rect", "circle", "polygon")))
+class _Pads:
+    """Pads of the fabrication copper, and the terminals made from them."""
+
+    def __init__(self, by_layer, window, nets, others):
+        self.by_layer = by_layer            # layer name -> {pad name -> Pad}
+        self.names = sorted({n for pads in by_layer.values() for n in pads})
+        self.window, self.nets, self.others = window, nets, others
+        self.alias = {}                     # pad name -> name of its terminal
+        self.implicit = []                  # terminals made for pads named by ports / branches
+
+    def closest(self, name, extra=()):
+        return difflib.get_close_matches(name, sorted(set(self.names) | set(extra)), n=5, cutoff=0.5)
+
+    def terminals(self, f, key, pad, name, layer=None):
+        """Terminals named ``name`` on the copper of ``pad`` (every layer, or ``layer``)."""
+        if not self.by_layer:
+            raise f.fail(f"'{key}' names pad '{pad}', but there are no fabrication copper files with "
+                         "X2 pad attributes (%TO.P); expected [fabrication] source")
+        found = [(la, pads[pad]) for la, pads in self.by_layer.items()
+                 if pad in pads and (layer is None or la == layer)]
+        if not found:
+            close = self.closest(pad)
+            on = f" on layer '{layer}'" if layer is not None and pad in self.names else ""
+            hint = ("; closest: " + ", ".join(repr(c) for c in close)) if close else ""
+            raise f.fail(f"'{key}' names pad '{pad}', which the fabrication files do not have{on}{hint}")
+        net = found[0][1].net
+        if self.nets is not None and self.others == "drop" and net not in self.nets:
+            raise f.fail(f"'{key}' names pad '{pad}' on net {net!r}, which [fabrication] 'nets' drops; "
+                         "add the net to 'nets' or set others = \"float\"")
+        if self.window is not None:
+            box = shapely.box(*self.window)
+            if not any(p.geometry.intersects(box) for _, p in found):
+                raise f.fail(f"'{key}' names pad '{pad}', which lies outside the [window]")
+        self.alias.setdefault(pad, name)
+        return [Terminal(name, la, p.geometry) for la, p in found]
 
 
-def _terminal_name(f, key, value, terminals):
+def _terminal(item, names, pads):
+    f = _Fields(item, ("name", "layer", "rect", "circle", "polygon", "holes", "pad"))
+    if "pad" in f.data:
+        drawn = [k for k in ("rect", "circle", "polygon", "holes") if k in f.data]
+        if drawn:
+            raise f.fail(f"give either 'pad' or '{drawn[0]}', not both (a pad terminal takes its "
+                         "copper from the fabrication files)")
+        layer = _layer_name(f, "layer", names) if "layer" in f.data else None
+        return pads.terminals(f, "pad", f.string("pad"), item.name, layer)
+    shape = _shape(f, ("rect", "circle", "polygon"))
+    if isinstance(f.data.get("layer"), list):           # one terminal across several layers
+        given = f.data["layer"]
+        if not given or not all(isinstance(n, str) for n in given) or len(set(given)) < len(given):
+            raise f.fail(f"'layer' must be a layer name or a list of distinct layer names, got {_show(given)}")
+        for n in given:
+            if n not in names:
+                raise f.fail(f"'layer' names unknown layer '{n}', expected one of "
+                             + ", ".join(f"'{m}'" for m in names))
+        return [Terminal(item.name, n, shape) for n in given]
+    return [Terminal(item.name, _layer_name(f, "layer", names), shape)]
+
+
+def _terminal_name(f, key, value, terminals, pads):
+    """The terminal that ``value`` names: a terminal name, or a pad (see the module docstring)."""
     if not isinstance(value, str):
         raise f.fail(f"'{key}' must be a terminal name, got {_show(value)}")
-    if value not in terminals:
-        raise f.fail(f"'{key}' names unknown terminal '{value}'")
-    return value
+    if value in terminals:
+        return value
+    if value in pads.alias:
+        return pads.alias[value]
+    if value in pads.names:
+        pads.implicit += pads.terminals(f, key, value, value)
+        terminals.add(value)
+        return value
+    close = pads.closest(value, terminals)
+    hint = ("; closest: " + ", ".join(repr(c) for c in close)) if close else ""
+    raise f.fail(f"'{key}' names unknown terminal '{value}'{hint}")
 
 
-def _port(item, terminals):
+def _port(item, terminals, pads):
     f = _Fields(item, ("name", "plus", "minus"))
-    plus = _terminal_name(f, "plus", f.raw("plus"), terminals)
-    minus = _terminal_name(f, "minus", f.raw("minus"), terminals)
+    plus = _terminal_name(f, "plus", f.raw("plus"), terminals, pads)
+    minus = _terminal_name(f, "minus", f.raw("minus"), terminals, pads)
     if plus == minus:
         raise f.fail(f"'plus' and 'minus' must differ, both are '{plus}'")
     return Port(item.name, plus, minus)
 
 
-def _lumped(item, terminals):
+def _lumped(item, terminals, pads):
     f = _Fields(item, ("name", "between", "resistance", "inductance"))
     between = f.raw("between")
     if not (isinstance(between, list) and len(between) == 2):
         raise f.fail(f"'between' must be a list of two terminal names, got {_show(between)}")
-    a, b = (_terminal_name(f, "between", t, terminals) for t in between)
+    a, b = (_terminal_name(f, "between", t, terminals, pads) for t in between)
     if a == b:
         raise f.fail(f"'between' must name two different terminals, got '{a}' twice")
     return Lumped(item.name, (a, b),
@@ -641,9 +721,70 @@ def _circuit(item, ports):
 
 
 def _fabrication(item):
+    """``[fabrication]`` as a dict: source (Path), nets (tuple or None), others, stackup."""
     if item is None:
         return None
-    return _Fields(item, ("source",)).path("source")
+    f = _Fields(item, ("source", "nets", "others", "stackup"))
+    nets = f.raw("nets", None)
+    if nets is not None:
+        if not (isinstance(nets, list) and nets and all(isinstance(n, str) for n in nets)):
+            raise f.fail(f"'nets' must be a non-empty list of net names, got {_show(nets)}")
+        nets = tuple(dict.fromkeys(nets))
+    if "others" in f.data and nets is None:
+        raise f.fail("'others' goes only with 'nets'")
+    return {"source": f.path("source"), "nets": nets, "others": f.string("others", "drop", ("drop", "float")),
+            "stackup": f.string("stackup", None, ("job",))}
+
+
+def _job_layers(path, items, fab, opts, unit):
+    """``[[layer]]`` items from the job file's stackup, merged with the explicit ones by name."""
+    if opts is None or opts["stackup"] is None:
+        return items, [], []
+    job = fab.read_job()
+    if job is None:
+        raise input_error(path, "[fabrication]", "stackup = \"job\" needs a Gerber job file (*.gbrjob) "
+                          f"in 'source' ({opts['source']}); none found")
+    explicit = {it.name: it for it in items}
+    out, notes = [], []
+    for c in job.copper:
+        name = f"L{c.number}"
+        it = explicit.pop(name, None)
+        s = unit_scale(it.unit if it is not None else unit)
+        data = {"name": name, "z": c.z / s, "thickness": c.thickness / s}
+        what = f"z {c.z / s:g}, thickness {c.thickness / s:g} {it.unit if it else unit}"
+        if it is not None:
+            data.update(it.data)
+            what += "; [[layer]] '" + name + "' sets " + ", ".join(k for k in it.data if k != "name")
+        out.append(_Item("layer", data, it.source if it else path, it.unit if it else unit,
+                         it.index if it else c.number, name, True))
+        notes.append(f"stackup: layer '{name}' <- {Path(job.source).name} copper '{c.name}' ({what})")
+    for it in explicit.values():
+        out.append(it)
+        notes.append(f"stackup: layer '{it.name}' from its [[layer]] table (not in the job file)")
+    more, warnings = _job_files_check(job, fab)
+    return out, notes + more, [f"{path}: [fabrication]: {w}" for w in warnings]
+
+
+def _job_files_check(job, fab):
+    """Notes and warnings comparing the job file's FilesAttributes with the scan's copper files."""
+    listed = {path.replace("\\", "/").rsplit("/", 1)[-1]: int(ff[1][1:]) for path, ff in job.files.items()
+              if len(ff) >= 2 and ff[0] == "Copper" and ff[1][1:].isdigit()}
+    name = Path(job.source).name
+    lines, warnings = [], []
+    if listed and len(listed) != len(job.copper):
+        warnings.append(f"{name} lists {len(listed)} copper files but its "
+                     f"MaterialStackup has {len(job.copper)} copper layers")
+    for number, label in fab.copper.items():
+        short = label.replace("\\", "/").rsplit("/", 1)[-1].rsplit("!", 1)[-1]
+        if short in listed and listed[short] != number:
+            warnings.append(f"{name} lists {short} as copper L{listed[short]}, "
+                         f"its own FileFunction says L{number}; the file's attribute is used")
+        elif short not in listed and listed:
+            lines.append(f"stackup: {short} (copper L{number}) is not in {name}'s FilesAttributes")
+    if listed and not lines and not warnings:
+        lines.append(f"stackup: {name} FilesAttributes agree with the copper files' X2 layers "
+                     f"(L1..L{len(listed)})")
+    return lines, warnings
 
 
 # ----------------------------------------------------------------------------- fabrication data
@@ -664,10 +805,10 @@ def _layer_artwork(path, layer, read, window, scale, unit):
     return geom, note, warnings
 
 
-def _board_inputs(path, layers, drills, fabrication, read, window, scale, unit):
-    """Artwork copper per layer, vias of the drill files, notes and warnings."""
+def _board_inputs(path, layers, drills, fab, opts, read, window, scale, unit):
+    """Artwork copper per layer, vias of the drill files, notes, warnings and the board contents."""
     names = [la.name for la in layers]
-    artwork, vias, notes, warnings = {}, [], [], []
+    artwork, vias, notes, warnings, contents = {}, [], [], [], None
     for la in layers:
         if la.artwork is not None:
             artwork[la.name], note, warns = _layer_artwork(path, la, read, window, scale, unit)
@@ -686,16 +827,19 @@ def _board_inputs(path, layers, drills, fabrication, read, window, scale, unit):
         vias += made
         notes.append(note)
         warnings += [f"{path}: {w}" for w in warns]
-    if fabrication is not None:
-        fab = board.fabrication_inputs(scan(fabrication), names, own_artwork=set(artwork),
+    if fab is not None:
+        got = board.fabrication_inputs(fab, names, own_artwork=set(artwork),
                                        drill_files={d["file"].resolve() for d in drills},
                                        plating=DEFAULT_PLATING, annulus=DEFAULT_ANNULUS,
-                                       clip=window, scale=scale, unit=unit)
-        artwork.update(fab.artwork)
-        vias += fab.vias
-        notes += fab.notes
-        warnings += [f"{path}: {w}" for w in fab.warnings]
-    return artwork, vias, notes, warnings
+                                       clip=window, scale=scale, unit=unit, nets=opts["nets"],
+                                       others=opts["others"], where=(path, "[fabrication]"))
+        artwork.update(got.artwork)
+        vias += got.vias
+        notes += got.notes
+        warnings += [f"{path}: {w}" for w in got.warnings]
+        contents = BoardContents(got.pads, got.net_area, fab.read_job() if fab.job else None,
+                                 opts["nets"], opts["others"], window is not None)
+    return artwork, vias, notes, warnings, contents
 
 
 # ----------------------------------------------------------------------------- checks
@@ -811,8 +955,11 @@ def load_case(path, *, read_artwork=None):
     arrays, singles = doc["arrays"], doc["singles"]
     for items in arrays.values():
         _check_unique(items)
-    layers = [_layer(it) for it in arrays["layer"]]
-    _check_stackup(path, layers, arrays["layer"])
+    opts = _fabrication(singles.get("fabrication"))
+    fab = scan(opts["source"]) if opts is not None else None
+    layer_items, stack_notes, stack_warnings = _job_layers(path, arrays["layer"], fab, opts, doc["unit"])
+    layers = [_layer(it) for it in layer_items]
+    _check_stackup(path, layers, layer_items)
     layers = sorted(layers, key=lambda la: -la.z)
     names = [la.name for la in layers]
     copper = [_copper(it, names) for it in arrays["copper"]]
@@ -821,21 +968,23 @@ def load_case(path, *, read_artwork=None):
         vias += _vias(it, layers)
         _check_via_count(path, len(vias), it.label)
     drills = tuple(_drill(it, layers) for it in arrays["drill"])
-    terminals = [_terminal(it, names) for it in arrays["terminal"]]
-    term_names = {t.name for t in terminals}
-    ports = tuple(_port(it, term_names) for it in arrays["port"])
-    lumped = tuple(_lumped(it, term_names) for it in arrays["lumped"])
     frequencies = _sweep(singles.get("sweep"))
     window = _window(singles.get("window"))
     mesh = _mesh(singles.get("mesh"))
     solver = _solver(singles.get("solver"))
-    circuit = _circuit(singles.get("circuit"), ports)
-    fabrication = _fabrication(singles.get("fabrication"))
     scale = unit_scale(doc["unit"])
-    artwork, more_vias, notes, warnings = _board_inputs(path, layers, drills, fabrication, read_artwork,
-                                                        window, scale, doc["unit"])
+    artwork, more_vias, notes, warnings, contents = _board_inputs(
+        path, layers, drills, fab, opts, read_artwork, window, scale, doc["unit"])
+    notes, warnings = stack_notes + notes, stack_warnings + warnings
     vias += more_vias
     _check_via_count(path, len(vias), "vias of the drill and fabrication files")
+    pads = _Pads(contents.pads if contents else {}, window, opts and opts["nets"], opts and opts["others"])
+    terminals = [t for it in arrays["terminal"] for t in _terminal(it, names, pads)]
+    term_names = {t.name for t in terminals}
+    ports = tuple(_port(it, term_names, pads) for it in arrays["port"])
+    lumped = tuple(_lumped(it, term_names, pads) for it in arrays["lumped"])
+    terminals += pads.implicit
+    circuit = _circuit(singles.get("circuit"), ports)
     labels = {("terminal", it.name): (it.source, it.label) for it in arrays["terminal"]}
     layout = build_layout(layers, copper, vias, terminals, window=window, artwork=artwork,
                           source=path, labels=labels)
@@ -853,4 +1002,5 @@ def load_case(path, *, read_artwork=None):
     return Case(path=path, title=doc["title"] or path.stem, unit=doc["unit"], unit_scale=scale,
                 layout=layout, ports=ports, lumped=lumped, frequencies=frequencies,
                 mesh=mesh, solver=solver, circuit=circuit, window=window,
-                warnings=tuple(warnings), drills=drills, fabrication=fabrication, notes=tuple(notes))
+                warnings=tuple(warnings), drills=drills, fabrication=opts and opts["source"],
+                notes=tuple(notes), board=contents)

@@ -122,9 +122,9 @@ def bodies(layout, lumped=()):
         start += len(parts)
     groups = []
     term_islands = {}
-    for t in layout.terminals:
-        term_islands[t.name] = _overlapping(trees, offsets, t.layer, t.shape)
-        groups.append(term_islands[t.name])
+    for t in layout.terminals:          # a name on several layers (a through-hole pad) is one terminal
+        term_islands.setdefault(t.name, []).extend(_overlapping(trees, offsets, t.layer, t.shape))
+    groups += list(term_islands.values())
     for v in layout.vias:
         groups.append([k for layer in v.connects for k in _under_pad(trees, offsets, layer, v)])
     for branch in lumped:

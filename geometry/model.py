@@ -219,6 +219,8 @@ class Case:
     notes : tuple of str
         What the artwork, drill and fabrication files gave (which file went to which layer,
         how many vias, what was skipped), one line each; informative, unlike ``warnings``.
+    board : copperpath.geometry.formats.board.BoardContents or None
+        What the ``[fabrication]`` files hold (pads, nets, job file), for ``inspect``.
     """
 
     path: Path
@@ -237,6 +239,7 @@ class Case:
     drills: tuple[dict, ...] = ()
     fabrication: Path | None = None
     notes: tuple[str, ...] = ()
+    board: object = None
 
     @property
     def default_port(self) -> str | None:

@@ -162,7 +162,7 @@ def _cmd_inspect(args):
     with _staged(out) as stage:
         info = write_inspect(case.layout, mesh, stage, unit_scale=case.unit_scale, unit=case.unit,
                              title=case.title, ports=case.ports, lumped=case.lumped,
-                             frequencies=case.frequencies)
+                             frequencies=case.frequencies, board=case.board)
     from copperpath.solver.output.outputs import format_inspect
     print(format_inspect(case, info))
     print(f"wrote {out}/")

@@ -18,19 +18,61 @@ Decisions:
   and a warning: a slot joins the layers like a via of its width (the extra barrel wall
   along its length is not modelled, which slightly overestimates the slot's inductance).
 - Holes of zero diameter (tool ``C0``) are skipped with a warning.
+- A net list (``[fabrication] nets``) keeps, on each copper layer of the fabrication data,
+  only the copper that X2 object attributes (``%TO.N``) put on those nets
+  (``others = "drop"``), or keeps all copper and only reports the split
+  (``others = "float"``: the other nets' copper stays as floating metal that carries eddy
+  currents). Copper without a net attribute (text, logos) counts as another net's.
+- Fabrication copper is simplified to :data:`SIMPLIFY` (Douglas-Peucker, topology kept),
+  then the exact pads (X2 ``%TO.P``) of the kept copper are united back in: pours exported
+  by layout tools carry vertices micrometres apart, each of which the mesher's quality bound
+  would surround with tiny triangles, and a pad terminal must meet the copper edge exactly.
 """
 from __future__ import annotations
 
-from dataclasses import dataclass
+import difflib
+from dataclasses import dataclass, field
 from pathlib import Path
 
 import numpy as np
+import shapely
 
 from copperpath.geometry.errors import input_error
 from copperpath.geometry.limits import MAX_VIAS
 from copperpath.geometry.model import Via
 
-__all__ = ["BoardInputs", "span_layers", "file_span", "drill_vias", "fabrication_inputs"]
+SIMPLIFY = 2e-6
+"""Tolerance in metres to which fabrication copper is simplified (see the module docstring)."""
+
+__all__ = ["BoardInputs", "BoardContents", "span_layers", "file_span", "drill_vias", "fabrication_inputs"]
+
+
+@dataclass(frozen=True)
+class BoardContents:
+    """What the fabrication files of a case hold, for ``copperpath inspect``.
+
+    Attributes
+    ----------
+    pads : dict of str to dict
+        Layer name -> {pad name -> :class:`copperpath.geometry.formats.x2.Pad`}, whole board.
+    net_area : dict of str to dict
+        Net -> {layer name -> copper area in m^2}, inside the window if there is one.
+    job : copperpath.geometry.formats.gerber_job.Job or None
+        The Gerber job file, if the set has one.
+    nets : tuple of str or None
+        ``[fabrication] nets``; None: no filter.
+    others : str
+        ``"drop"`` or ``"float"``.
+    windowed : bool
+        True when ``net_area`` covers only a window.
+    """
+
+    pads: dict
+    net_area: dict
+    job: object = None
+    nets: tuple | None = None
+    others: str = "drop"
+    windowed: bool = False
 
 
 @dataclass(frozen=True)
@@ -46,12 +88,20 @@ class BoardInputs:
         What went where and what was skipped, one line each.
     warnings : tuple of str
         Findings to look at (reader warnings, skipped holes, slots), one line each.
+    pads : dict of str to dict
+        Layer name -> {pad name -> :class:`copperpath.geometry.formats.x2.Pad`} of the fabrication copper
+        (whole board, not cropped to the window).
+    net_area : dict of str to dict
+        Net -> {layer name -> copper area in m^2} as read (inside the window if there is
+        one), before any net filter.
     """
 
     artwork: dict
     vias: tuple[Via, ...] = ()
     notes: tuple[str, ...] = ()
     warnings: tuple[str, ...] = ()
+    pads: dict = field(default_factory=dict)
+    net_area: dict = field(default_factory=dict)
 
 
 def span_layers(span, names):
@@ -200,7 +250,7 @@ def drill_vias(drills, span, *, plating, annulus, prefix, label, scale=1e-3, uni
 
 
 def fabrication_inputs(fab, names, *, own_artwork=(), drill_files=(), plating, annulus,
-                       clip=None, scale=1e-3, unit="mm"):
+                       clip=None, scale=1e-3, unit="mm", nets=None, others="drop", where=("", None)):
     """Read the copper and drill files that a fabrication scan found and map them to layers.
 
     Parameters
@@ -219,6 +269,12 @@ def fabrication_inputs(fab, names, *, own_artwork=(), drill_files=(), plating, a
         ``(x0, y0, x1, y1)`` in metres: read only the copper inside (the window).
     scale, unit : optional
         Unit of the lengths quoted in messages.
+    nets : sequence of str, optional
+        Keep only these nets' copper (see the module docstring); None: all copper.
+    others : str, optional
+        ``"drop"`` or ``"float"``: what becomes of the other copper when ``nets`` is given.
+    where : tuple, optional
+        ``(file, item)`` named by errors about ``nets``.
 
     Returns
     -------
@@ -228,10 +284,11 @@ def fabrication_inputs(fab, names, *, own_artwork=(), drill_files=(), plating, a
     Raises
     ------
     copperpath.geometry.errors.InputError
-        From the readers, naming the file and line.
+        From the readers, naming the file and line; a net of ``nets`` that no copper file
+        names (with the closest names), or copper files without net attributes.
     """
     notes = [f"fabrication: {line}" for line in fab.lines]
-    warnings, artwork, vias = [], {}, []
+    warnings, artwork, vias, pads, net_area, read = [], {}, [], {}, {}, {}
     for n, label in fab.copper.items():
         short = Path(label).name
         if n > len(names):
@@ -241,11 +298,20 @@ def fabrication_inputs(fab, names, *, own_artwork=(), drill_files=(), plating, a
                          "names its own artwork")
         else:
             art = fab.read_copper(n, clip=clip)
+            read[names[n - 1]] = art
             artwork[names[n - 1]] = art.geometry
+            pads[names[n - 1]] = art.pads
+            for net, geom in art.nets.items():
+                net_area.setdefault(net, {})[names[n - 1]] = float(geom.area)
             warnings += art.warnings
             inside = " inside the window" if clip is not None else ""
             notes.append(f"fabrication: copper L{n} ({short}) -> layer '{names[n - 1]}' "
                          f"({_fmt(art.geometry.area, scale ** 2)} {unit}^2 of copper{inside})")
+    if nets is not None:
+        notes += _filter_nets(read, artwork, nets, others, where, scale, unit)
+    for layer, art in read.items():
+        artwork[layer] = _simplified(artwork[layer], art.pads.values(), clip,
+                                     nets if nets is not None and others == "drop" else None)
     for d in fab.drills:
         short = Path(d.name).name
         if Path(d.name).resolve() in drill_files:
@@ -261,4 +327,44 @@ def fabrication_inputs(fab, names, *, own_artwork=(), drill_files=(), plating, a
         vias += made
         notes.append(f"fabrication: drill {note}")
         warnings += [f"fabrication: {w}" for w in warns]
-    return BoardInputs(artwork, tuple(vias), tuple(notes), tuple(warnings))
+    return BoardInputs(artwork, tuple(vias), tuple(notes), tuple(warnings), pads,
+                       dict(sorted(net_area.items())))
+
+
+def _simplified(geom, pads, clip, nets):
+    """``geom`` simplified to SIMPLIFY with the exact pads (of ``nets``, None: all) united back."""
+    keep = [p.geometry for p in pads if nets is None or p.net in nets]
+    if clip is not None:
+        box = shapely.box(*clip)
+        keep = [shapely.clip_by_rect(g, *clip) for g in keep if g.intersects(box)]
+    simple = shapely.simplify(geom, SIMPLIFY, preserve_topology=True)
+    return shapely.union_all([simple, *keep]) if keep else simple
+
+
+def _filter_nets(read, artwork, nets, others, where, scale, unit):
+    """Apply a net list to the artwork of each layer (in place); return the notes."""
+    bare = [art.source for art in read.values() if not art.object_attributes]
+    if bare:
+        raise input_error(where[0], where[1], f"'nets' needs X2 net attributes (%TO.N), but "
+                          f"{Path(bare[0]).name} has none; export Gerber X2 with netlist attributes")
+    known = sorted({net for art in read.values() for net in art.nets})
+    for net in nets:
+        if net not in known:
+            close = difflib.get_close_matches(net, known, n=5, cutoff=0.5)
+            hint = ("closest: " + ", ".join(repr(c) for c in close)) if close else \
+                f"the files name {len(known)} nets (see 'copperpath inspect')"
+            raise input_error(where[0], where[1], f"'nets' names net {net!r}, which no copper file has; {hint}")
+    notes = []
+    listed = ", ".join(nets)
+    for layer, art in read.items():
+        kept = shapely.union_all([art.nets[n] for n in nets if n in art.nets])
+        total = art.geometry.area
+        if others == "drop":
+            artwork[layer] = kept
+        notes.append(f"fabrication: layer '{layer}': nets {listed} hold {_fmt(kept.area, scale ** 2)} "
+                     f"of {_fmt(total, scale ** 2)} {unit}^2; others = \"{others}\" keeps "
+                     + (f"{_fmt(kept.area, scale ** 2)} {unit}^2 (\"float\" would keep all "
+                        f"{_fmt(total, scale ** 2)})" if others == "drop" else
+                        f"all {_fmt(total, scale ** 2)} {unit}^2 (\"drop\" would keep "
+                        f"{_fmt(kept.area, scale ** 2)})"))
+    return notes

@@ -4,7 +4,8 @@ Copper layers are identified by the X2 file attribute ``.FileFunction,Copper,L<n
 (written as ``%TF...*%`` or as a ``G04 #@! TF...*`` comment). Drill files are Excellon files;
 their span and plating come from ``; #@! TF.FileFunction,Plated|NonPlated,<a>,<b>,...``,
 plating otherwise from the file name (``NPTH`` means non-plated, see
-:mod:`copperpath.geometry.formats.excellon`); a drill file without a span joins all layers.
+:mod:`copperpath.geometry.formats.excellon`); a drill file without a span joins all layers. A Gerber job
+file (``*.gbrjob``, see :mod:`copperpath.geometry.formats.gerber_job`) is kept for the stackup.
 
 Only when no Gerber file of the set carries a copper ``.FileFunction`` are the layers taken
 from file names, using two common conventions (common practice, not a standard):
@@ -33,11 +34,11 @@ import re
 import stat
 import zipfile
 import zlib
-from dataclasses import dataclass, field
+from dataclasses import dataclass, field, replace
 from pathlib import Path, PurePosixPath
 
 from copperpath.geometry.errors import input_error
-from copperpath.geometry.formats import detect, excellon, gerber
+from copperpath.geometry.formats import detect, excellon, gerber, gerber_job
 from copperpath.geometry.formats.gerber import DEFAULT_CHORD
 from copperpath.geometry.limits import MAX_LAYER_NUMBER, read_regular
 
@@ -99,6 +100,8 @@ class Fabrication:
         What was assigned and what was skipped, one human-readable line per file.
     contents : dict of str to bytes
         Bytes of the assigned files by label.
+    job : str or None
+        Label of the Gerber job file, if the set has one.
     """
 
     source: str
@@ -106,6 +109,7 @@ class Fabrication:
     drills: tuple[DrillFile, ...]
     lines: tuple[str, ...]
     contents: dict = field(repr=False, default_factory=dict)
+    job: str | None = None
 
     def open(self, label: str) -> io.BytesIO:
         """Return the bytes of an assigned file as a binary buffer."""
@@ -119,6 +123,10 @@ class Fabrication:
     def read_drills(self, drill: DrillFile) -> excellon.Drills:
         """Read one drill file of the set (see :func:`copperpath.geometry.formats.excellon.read`)."""
         return excellon.read(self.open(drill.name), name=drill.name)
+
+    def read_job(self) -> gerber_job.Job | None:
+        """Read the job file of the set (see :func:`copperpath.geometry.formats.gerber_job.read`), or None."""
+        return None if self.job is None else gerber_job.read(self.open(self.job), name=self.job)
 
 
 def scan(source, *, max_files: int = MAX_FILES, max_bytes: int = MAX_BYTES) -> Fabrication:
@@ -152,7 +160,7 @@ def scan(source, *, max_files: int = MAX_FILES, max_bytes: int = MAX_BYTES) -> F
     else:
         raise input_error(path, None, "fabrication source not found")
     fab = _assign(str(path), files)
-    return Fabrication(fab.source, fab.copper, fab.drills, tuple(skipped) + fab.lines, fab.contents)
+    return replace(fab, lines=tuple(skipped) + fab.lines)
 
 
 # --------------------------------------------------------------------------- sources
@@ -261,11 +269,15 @@ def _check_member(path, name):
 # --------------------------------------------------------------------------- assignment
 
 def _assign(source, files):
-    lines, copper, drills, contents, unnamed = [], {}, [], {}, []
+    lines, copper, drills, contents, unnamed, jobs = [], {}, [], {}, [], []
     for label, short, data in files:
         text = data[:65536].decode("utf-8", errors="replace")
         kind = detect(text, short)
-        if kind == "gerber":
+        if kind is None and gerber_job.looks_like_job(text, short):
+            jobs.append(label)
+            contents[label] = data
+            lines.append(f"job file {short}")
+        elif kind == "gerber":
             m = _TF_GERBER.search(text)
             ff = tuple(f.strip() for f in m.group(1).split(",")) if m else ()
             if not ff:
@@ -298,7 +310,10 @@ def _assign(source, files):
     if numbers and numbers != list(range(1, numbers[-1] + 1)):
         missing = sorted(set(range(1, numbers[-1] + 1)) - set(numbers))
         lines.append("warning: no file for copper layer(s) " + ", ".join(f"L{k}" for k in missing))
-    return Fabrication(source, dict(sorted(copper.items())), tuple(drills), tuple(lines), contents)
+    if len(jobs) > 1:
+        raise input_error(source, None, f"two Gerber job files: {jobs[0]} and {jobs[1]}; expected one")
+    return Fabrication(source, dict(sorted(copper.items())), tuple(drills), tuple(lines), contents,
+                       jobs[0] if jobs else None)
 
 
 def _check_layer_number(label, digits, what):

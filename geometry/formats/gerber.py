@@ -14,8 +14,10 @@ section numbers and rules cited from memory) that layout tools emit for copper:
 - ``%LP`` polarity applied in order (a clear object erases everything drawn before it),
   ``%LM``/``%LR``/``%LS`` (mirroring, then rotation, then scaling of apertures),
   ``%SR`` step and repeat, ``%AB`` block apertures (nested, with polarity);
-- ``%TF`` file attributes (also as ``G04 #@! TF...`` comments); ``TA``/``TO``/``TD`` are
-  read and ignored; G04 comments; M02 (and M00) end the file.
+- ``%TF`` file attributes (also as ``G04 #@! TF...`` comments); ``TO``/``TD`` object
+  attributes give the copper of each net and each component pad (``.N``, ``.P``, ``.C``, see
+  :mod:`copperpath.geometry.formats.x2`); ``TA`` is read and ignored; G04 comments; M02 (and M00) end
+  the file.
 - Deprecated codes are tolerated where they do not change the image: G54 (aperture select
   prefix), G55, G70/G71 (units when ``%MO`` is missing), G90, M01, ``%IPPOS``, ``%IR0``,
   ``%ASAXBY``, ``%MIA0B0``, ``%OFA0B0``, ``%SFA1B1``, ``%IN``, ``%LN``. Coordinate-only
@@ -54,6 +56,7 @@ from copperpath.geometry.limits import (BOARD_EXTENT, MAX_FILE_BYTES, MAX_GERBER
 from copperpath.geometry.formats.gerber_macros import (MacroError, chord_count, compile_macro, disk_polygon,
                                             evaluate_macro, rect_polygon, regular_ngon,
                                             segments_per_quarter)
+from copperpath.geometry.formats.x2 import ObjectAttributes
 
 __all__ = ["Artwork", "read", "read_text", "DEFAULT_CHORD"]
 
@@ -92,6 +95,15 @@ class Artwork:
         File name used in messages.
     warnings : tuple of str
         Non-fatal findings, one line each (``"file:line: text"``).
+    nets : dict of str to shapely.MultiPolygon
+        Copper of each net named by X2 object attributes (``%TO.N``), cropped like
+        ``geometry``; empty when the file has none.
+    pads : dict of str to copperpath.geometry.formats.x2.Pad
+        Component pads (``%TO.P``) by ``"<ref>.<number>"``, whole file (not cropped).
+    components : tuple of str
+        Reference designators named by ``%TO.C`` or ``%TO.P``, sorted.
+    object_attributes : bool
+        True when the file carries X2 object attributes (``%TO``) at all.
     """
 
     geometry: MultiPolygon
@@ -99,6 +111,10 @@ class Artwork:
     units: str | None = None
     source: str = ""
     warnings: tuple[str, ...] = ()
+    nets: dict = field(default_factory=dict)
+    pads: dict = field(default_factory=dict)
+    components: tuple[str, ...] = ()
+    object_attributes: bool = False
 
     @property
     def file_function(self) -> tuple[str, ...] | None:
@@ -253,8 +269,9 @@ def _single_quadrant_center(start, end, i, j, cw):
 class _Run:
     """Objects of one polarity, collected as raw data and turned into geometry in bulk."""
 
-    def __init__(self, dark):
+    def __init__(self, dark, tag=None):
         self.dark = dark
+        self.tag = tag          # (net, pad) of the X2 object attributes, see copperpath.geometry.formats.x2
         self.flashes = {}       # template key -> (geometry, list of (x, y))
         self.lines = {}         # radius -> list of (k, 2) point arrays
         self.hulls = []         # (k, 2) point clouds; each convex hull is one object
@@ -404,8 +421,9 @@ class _Reader:
         self.contour = None
         self.stack = [_Context("top")]
         self.attrs, self.warnings = {}, []
+        self.objects = ObjectAttributes()
         self.line = 0
-        self.objects = 0                # graphics objects made, copies included
+        self.n_objects = 0              # graphics objects made, copies included
         self.vertices = 0               # their polygon vertices (about)
 
     def error(self, line, message):
@@ -447,7 +465,10 @@ class _Reader:
         if not image.is_empty and not all(coordinate_ok(b) for b in image.bounds):
             raise self.error(self.line, "the image reaches beyond the board extent "
                                         f"({BOARD_EXTENT * 1e3:g} mm from the origin in x and y)")
-        return Artwork(image, dict(self.attrs), self.unit_name, self.name, tuple(self.warnings))
+        nets, pads = self.objects.finish(image, self.clip)
+        return Artwork(image, dict(self.attrs), self.unit_name, self.name, tuple(self.warnings),
+                       nets=nets, pads=pads, components=tuple(sorted(self.objects.components)),
+                       object_attributes=self.objects.seen)
 
     # ----------------------------------------------------------- normal words
 
@@ -558,14 +579,19 @@ class _Reader:
 
     def current_run(self):
         ctx = self.stack[-1]
-        if ctx.run is None or ctx.run.dark != self.dark:
+        tag = self.objects.tag
+        if ctx.run is None or ctx.run.dark != self.dark or ctx.run.tag != tag:
             self.flush(ctx)
-            ctx.run = _Run(self.dark)
+            ctx.run = _Run(self.dark, tag)
+            self.objects.cleared |= not self.dark
         return ctx.run
 
     def flush(self, ctx):
         if ctx.run:
-            _append(ctx.stream, ctx.run.dark, ctx.run.geometries(self.tol))
+            geoms = ctx.run.geometries(self.tol)
+            _append(ctx.stream, ctx.run.dark, geoms)
+            if ctx.run.dark and ctx is self.stack[0]:
+                self.objects.add(ctx.run.tag, geoms)
         ctx.run = None
 
     def path(self, line, x, y, i, j):
@@ -661,7 +687,11 @@ class _Reader:
                     sum(int(shapely.count_coordinates(g)) for _, g in ap.stream))
         m, off = self.matrix(), np.array([x, y])
         for dark, geoms in ap.stream:
-            _append(ctx.stream, dark if self.dark else not dark, _affine(geoms, m, off))
+            placed = _affine(geoms, m, off)
+            _append(ctx.stream, dark if self.dark else not dark, placed)
+            if ctx is self.stack[0] and dark == self.dark:
+                self.objects.add(self.objects.tag, placed)
+            self.objects.cleared |= dark != self.dark
 
     # ----------------------------------------------------------- extended commands
 
@@ -709,7 +739,11 @@ class _Reader:
             self.block(line, word)
         elif head == "TF":
             self.attribute(line, word)
-        elif head in ("TA", "TO", "TD", "IN", "LN"):
+        elif head == "TO":
+            self.objects.set(word[2:].split(","))
+        elif head == "TD":
+            self.objects.delete(word[2:])
+        elif head in ("TA", "IN", "LN"):
             pass
         elif not self.deprecated_identity(word):
             raise self.error(line, f"unknown or unsupported extended command %{word[:40]}*%")
@@ -868,9 +902,9 @@ class _Reader:
 
     def budget(self, line, objects, vertices):
         """Count new objects (copies included); refuse beyond the reader limits."""
-        self.objects += objects
+        self.n_objects += objects
         self.vertices += vertices
-        if self.objects > MAX_GERBER_OBJECTS:
+        if self.n_objects > MAX_GERBER_OBJECTS:
             raise self.error(line, f"more than {MAX_GERBER_OBJECTS} graphics objects (after step and "
                                    "repeat and block flashes); expected a board-sized image")
         if self.vertices > MAX_GERBER_VERTICES:

@@ -117,7 +117,8 @@ class Network:
 
 
 def _merge_regions(mesh):
-    """Group regions that touch (share an interior edge) into one node each.
+    """Group regions that touch (share an interior edge), or hold the same terminal on
+    several layers (a through-hole pad), into one node each.
 
     Returns
     -------
@@ -128,7 +129,15 @@ def _merge_regions(mesh):
     r0 = mesh.tri_region[mesh.edge_tris[:, 0]]
     r1 = mesh.tri_region[mesh.edge_tris[:, 1]]
     touch = (r0 >= 0) & (r1 >= 0) & (r0 != r1)
-    g = sp.coo_matrix((np.ones(touch.sum()), (r0[touch], r1[touch])), shape=(n, n))
+    first, pairs = {}, []
+    for k, name in enumerate(mesh.region_names):
+        if name in first:
+            pairs.append((first[name], k))
+        first.setdefault(name, k)
+    same = np.array(pairs, np.int64).reshape(-1, 2)
+    rows = np.concatenate([r0[touch], same[:, 0]])
+    cols = np.concatenate([r1[touch], same[:, 1]])
+    g = sp.coo_matrix((np.ones(len(rows)), (rows, cols)), shape=(n, n))
     return connected_components(g, directed=False)[1] if n else np.zeros(0, np.int64)
 
 
@@ -261,6 +270,8 @@ def build_network(mesh, layout, lumped=(), *, f_max=0.0):
         joined = [name for name in via.connects if name in layer_index]
         nodes = [_via_node(mesh, tri_node, via, layer_index[name], name, region_node) for name in joined]
         for k in range(len(joined) - 1):
+            if nodes[k] == nodes[k + 1]:
+                continue                    # both ends in one terminal (a through-hole pad)
             upper, lower = layout.layer(joined[k]), layout.layer(joined[k + 1])
             barrel_rows.append((vi, lower.z_mid, upper.z_mid, via.barrel_radius, upper.name, lower.name))
             barrel_nodes.append((nodes[k], nodes[k + 1]))

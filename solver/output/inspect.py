@@ -1,12 +1,14 @@
 """``copperpath inspect``: what was read and meshed, before any solve.
 
 Writes ``inspect.json`` (sizes, connectivity counts, mesh quality and the memory a dense
-solve would need), one picture per layer and ``mesh.vtu``. Every file is written to a
+solve would need; with ``[fabrication]`` files also what they hold: components and their
+pads, nets and their copper per layer, the stackup), one picture per layer and ``mesh.vtu``. Every file is written to a
 temporary name in the output folder and renamed into place.
 """
 from __future__ import annotations
 
 import json
+import re
 from pathlib import Path
 
 import numpy as np
@@ -23,7 +25,7 @@ SMALL_ANGLE_DEG = 25.0
 
 
 def write_inspect(layout, mesh, out_dir, *, unit_scale=1e-3, unit="mm", title="", ports=(),
-                  lumped=(), frequencies=(0.0,)):
+                  lumped=(), frequencies=(0.0,), board=None):
     """Write ``inspect.json``, ``<layer>.png`` per layer and ``mesh.vtu`` into ``out_dir``.
 
     Parameters
@@ -43,6 +45,8 @@ def write_inspect(layout, mesh, out_dir, *, unit_scale=1e-3, unit="mm", title=""
     frequencies : sequence of float
         The sweep in Hz (``sublayers = "auto"`` follows its top; the estimate counts its
         stored currents).
+    board : copperpath.geometry.formats.board.BoardContents, optional
+        What the fabrication files hold (``Case.board``).
 
     Returns
     -------
@@ -52,7 +56,7 @@ def write_inspect(layout, mesh, out_dir, *, unit_scale=1e-3, unit="mm", title=""
     out = Path(out_dir)
     out.mkdir(parents=True, exist_ok=True)
     info = inspect_summary(layout, mesh, ports=ports, title=title, lumped=lumped,
-                           frequencies=frequencies)
+                           frequencies=frequencies, board=board)
     for index, name in enumerate(mesh.layer_names):
         _write_atomic(out / f"{_file_stem(name)}.png",
                       lambda tmp, i=index: _plot_layer(layout, mesh, i, tmp, unit_scale=unit_scale,
@@ -63,7 +67,7 @@ def write_inspect(layout, mesh, out_dir, *, unit_scale=1e-3, unit="mm", title=""
     return info
 
 
-def inspect_summary(layout, mesh, *, ports=(), title="", lumped=(), frequencies=(0.0,)):
+def inspect_summary(layout, mesh, *, ports=(), title="", lumped=(), frequencies=(0.0,), board=None):
     """The content of ``inspect.json`` (SI units).
 
     ``mesh.unknowns`` counts the current unknowns of the solve (edge currents of every
@@ -72,7 +76,8 @@ def inspect_summary(layout, mesh, *, ports=(), title="", lumped=(), frequencies=
     ``dense_memory_bytes`` the peak memory of the dense path (:func:`copperpath.solver.solve.memory.estimate`,
     the same estimate ``solve`` checks, sublayer unknowns of the sweep's top frequency and
     stored currents included), ``available_memory_bytes`` what the process may use and where
-    that limit comes from.
+    that limit comes from. With ``board`` (:class:`copperpath.geometry.formats.board.BoardContents`)
+    the key ``fabrication`` lists what the fabrication files hold (:func:`board_summary`).
     """
     layers = {}
     for index, layer in enumerate(layout.layers):
@@ -110,7 +115,52 @@ def inspect_summary(layout, mesh, *, ports=(), title="", lumped=(), frequencies=
         "available_memory_bytes": int(free),
         "available_memory_source": source,
         "fits": est.solve_bytes <= memory.USABLE_FRACTION * free,
+        **({"fabrication": board_summary(board, layout)} if board is not None else {}),
     }
+
+
+def board_summary(board, layout):
+    """What the fabrication files hold, SI units (the ``fabrication`` key of ``inspect.json``).
+
+    Returns
+    -------
+    dict
+        ``components``: reference -> pad number -> ``{"net", "function", "layers",
+        "center_m"}`` (whole board); ``nets``: net -> layer -> copper area in m^2 (inside the
+        window if there is one, then ``window`` is true; ``""`` is copper the file marks as on
+        no net); ``net_filter``:
+        ``{"nets", "others"}`` or None; ``stackup``: the layers used, top down, with the job
+        file's name for each copper layer; ``job``: the job file's name, board thickness and
+        dielectrics, or None.
+    """
+    components = {}
+    for layer, pads in board.pads.items():
+        for pad in pads.values():
+            entry = components.setdefault(pad.ref, {}).setdefault(pad.number, {
+                "net": pad.net, "function": pad.function, "layers": [],
+                "center_m": [float(c) for c in pad.geometry.centroid.coords[0]] if not pad.geometry.is_empty else None})
+            entry["layers"].append(layer)
+    job = board.job
+    names = {f"L{c.number}": c.name for c in job.copper} if job is not None else {}
+    return {
+        "components": {ref: components[ref] for ref in sorted(components, key=_natural)},
+        "nets": board.net_area,
+        "window": board.windowed,
+        "net_filter": None if board.nets is None else {"nets": list(board.nets), "others": board.others},
+        "stackup": [{"name": la.name, "z_m": la.z, "thickness_m": la.thickness,
+                     "conductivity_s_per_m": la.conductivity, "job_name": names.get(la.name)}
+                    for la in layout.layers],
+        "job": None if job is None else {
+            "file": Path(job.source).name, "board_thickness_m": job.board_thickness,
+            "copper": [{"number": c.number, "name": c.name, "z_m": c.z, "thickness_m": c.thickness}
+                       for c in job.copper],
+            "dielectrics": [{"name": n, "thickness_m": t, "material": m} for n, t, m in job.dielectrics]},
+    }
+
+
+def _natural(name):
+    """Sort key that puts ``U10`` after ``U9``."""
+    return [(0, int(t), "") if t.isdigit() else (1, 0, t) for t in re.split(r"(\d+)", name)]
 
 
 def _file_stem(name):

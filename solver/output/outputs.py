@@ -177,8 +177,8 @@ def format_inspect(case, info):
         area = layer["copper_area_m2"] / case.unit_scale**2
         lines.append(f"  layer {name}: copper {area:.4g} {u}^2, {layer['islands']} island(s), "
                      f"{layer['triangles']} triangles")
-    lines.append(f"  vias: {info['vias']}   terminals: "
-                 f"{', '.join(t['name'] for t in info['terminals']) or '-'}")
+    terminals = dict.fromkeys(t["name"] for t in info["terminals"])    # one per name, not per layer
+    lines.append(f"  vias: {info['vias']}   terminals: {', '.join(terminals) or '-'}")
     lines.append(f"  ports: {', '.join(p['name'] for p in info['ports']) or '-'}   lumped: "
                  f"{', '.join(x.name for x in case.lumped) or '-'}")
     m = info["mesh"]
@@ -189,4 +189,33 @@ def format_inspect(case, info):
                  f"(process peak {info['process_peak_bytes'] / 2**20:.0f} MiB); "
                  f"{info['available_memory_bytes'] / 2**30:.3g} GiB available under "
                  f"{info['available_memory_source']}: {verdict}")
+    if "fabrication" in info:
+        lines += _format_board(info["fabrication"], case.unit_scale, u)
     return "\n".join(lines)
+
+
+def _format_board(fab, scale, unit):
+    """Lines listing what the fabrication files hold (see :func:`copperpath.solver.output.inspect.board_summary`)."""
+    lines = ["fabrication files:", "  stackup (top down):"]
+    for la in fab["stackup"]:
+        job = f"  (job file: '{la['job_name']}')" if la["job_name"] else ""
+        lines.append(f"    {la['name']}: z {la['z_m'] / scale:g} {unit}, "
+                     f"thickness {la['thickness_m'] * 1e6:.4g} um{job}")
+    if fab["job"] is not None and fab["job"]["board_thickness_m"]:
+        lines.append(f"    board thickness {fab['job']['board_thickness_m'] / scale:g} {unit} "
+                     f"({fab['job']['file']})")
+    layers = [la["name"] for la in fab["stackup"]]
+    lines.append(f"  nets ({len(fab['nets'])}), copper {unit}^2 per layer "
+                 + ("inside the window" if fab.get("window") else "") + ": "
+                 + " / ".join(layers))
+    order = sorted(fab["nets"].items(), key=lambda kv: -sum(kv[1].values()))
+    for net, area in order:
+        cells = " / ".join(f"{area.get(la, 0.0) / scale ** 2:.4g}" for la in layers)
+        lines.append(f"    {net or '(no net)'}: {cells}")
+    if fab["net_filter"]:
+        f = fab["net_filter"]
+        lines.append(f"  kept: nets {', '.join(f['nets'])}; others = \"{f['others']}\"")
+    lines.append(f"  components ({len(fab['components'])}), pad number = net:")
+    for ref, pads in fab["components"].items():
+        lines.append(f"    {ref}: " + ", ".join(f"{n} = {p['net'] or '-'}" for n, p in pads.items()))
+    return lines

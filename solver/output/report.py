@@ -63,7 +63,7 @@ def _case_tables(case, summary):
              str(la.sublayers)) for la in case.layout.layers]
     parts = [table(["layer", f"z ({u})", "thickness (um)", "conductivity (S/m)", "sublayers"], rows)]
     items = [("vias", str(len(case.layout.vias))),
-             ("terminals", ", ".join(t.name for t in case.layout.terminals) or "-"),
+             ("terminals", ", ".join(dict.fromkeys(t.name for t in case.layout.terminals)) or "-"),
              ("ports", "; ".join(f"{p.name}: {p.plus} -> {p.minus}" for p in case.ports) or "-"),
              ("lumped", "; ".join(f"{x.name} ({x.between[0]}-{x.between[1]}, "
                                   f"{engineering(x.resistance, 'ohm')}, {engineering(x.inductance, 'H')})"
