@@ -60,6 +60,9 @@ WIDTH_FACTOR = 1.0
 """Target edge in a feature narrower than ``2 r`` is ``WIDTH_FACTOR * r``."""
 MAX_PASSES = 10
 """Refinement passes of the size-field loop."""
+SHADOW = True
+"""Refine this layer's copper under the edges of a neighbouring layer's copper as well (the
+return current crowds there)."""
 
 
 @dataclass(frozen=True)
@@ -312,7 +315,12 @@ def size_field(copper, regions, options: MeshOptions, facing=None) -> SizeField:
     if facing is not None and not facing.is_empty and not copper.is_empty:
         xy = shapely.get_coordinates(shapely.segmentize(copper.boundary, 0.25 * lo))
         shapely.prepare(facing)
-        xy = xy[shapely.contains_xy(facing, xy[:, 0], xy[:, 1])]
+        xy = [xy[shapely.contains_xy(facing, xy[:, 0], xy[:, 1])]]
+        if SHADOW:
+            under = shapely.get_coordinates(shapely.segmentize(facing.boundary, 0.25 * lo))
+            shapely.prepare(copper)
+            xy.append(under[shapely.contains_xy(copper, under[:, 0], under[:, 1])])
+        xy = np.concatenate(xy)
         facing_tree = cKDTree(xy) if len(xy) else None
     pts = np.concatenate(pts)
     levels = []

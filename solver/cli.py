@@ -73,7 +73,7 @@ def run_case(case, out, *, freqs=None, quiet=False, write=True):
         ``(result, mesh, system, summary)`` where ``summary`` is the ``result.json`` data.
     """
     from geometry.meshing import triangulate
-    from solver.outputs import write_outputs
+    from solver.outputs import case_skin_warnings, write_outputs
     from solver.sweep import solve
     from solver.system import assemble
 
@@ -94,6 +94,8 @@ def run_case(case, out, *, freqs=None, quiet=False, write=True):
                    progress=None if quiet else _progress(Path(case.path).stem),
                    method=case.solver.method, rtol=case.solver.tolerance)
     timing["solve"] = time.perf_counter() - t
+    for line in case_skin_warnings(case, system, result):
+        print(f"warning: {line}", file=sys.stderr)
     checks = result.info["checks"]
     if checks["min_port_resistance_ohm"] is not None and checks["min_port_resistance_ohm"] <= 0:
         print(f"warning: {Path(case.path).name}: a port resistance is not positive "

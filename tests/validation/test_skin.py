@@ -21,7 +21,8 @@ from geometry import gallery
 from geometry.case import load_case
 from geometry.meshing import triangulate
 from geometry.model import MeshOptions, Port
-from solver.network import auto_sublayers, build_network, sublayer_bounds
+from solver.network import build_network
+from solver.skin import auto_sublayers, sublayer_bounds
 from tests.bad_cases import GOOD, write_case
 from tests.validation.solver_setups import solve_layout
 

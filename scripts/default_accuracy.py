@@ -1,0 +1,95 @@
+"""Accuracy at default settings: per-length loop inductance of a strip over a plane at 100 MHz.
+
+A case file with no ``[mesh]`` table, written as a new user would: a 1 mm wide, 35 um strip
+0.2 mm over a 10 mm wide plane (35 um), closed by a via at the far end, port at the near end,
+DC and 100 MHz. The per-length values are the difference of a 30 mm and a 20 mm strip
+(REFERENCES.md, "How to set a check up so that it is fair"), compared with the air microstrip
+of Hammerstad & Jensen 1980 (``L' = Z0 / c0`` with its thickness correction). That formula is
+the external inductance of perfect conductors; the solver's ``L`` also holds the internal
+inductance of the skin layers, which by Wheeler's incremental-inductance rule (Wheeler 1942,
+"Formulas for the skin effect", Proc. IRE 30) equals ``R / omega`` when the copper is many skin
+depths thick: the external part is ``L - R / omega``.
+
+    python scripts/default_accuracy.py [--sublayers N] [--max-edge MM --min-edge MM]
+"""
+from __future__ import annotations
+
+import argparse
+import math
+import sys
+import tempfile
+import time
+from pathlib import Path
+
+from tests.validation.line_formulas import microstrip_inductance_per_length
+
+W, H, T, PLANE = 1.0, 0.2, 0.035, 10.0          # mm
+F = 1e8
+
+
+def case_text(length, *, sublayers=None, mesh=None):
+    """The case file of one strip length (mm); ``sublayers`` / ``mesh`` (max, min) override."""
+    sub = f"\nsublayers = {sublayers}" if sublayers is not None else ""
+    lines = [f'title = "strip {length:g} mm over a plane"', 'units = "mm"',
+             "[[layer]]", 'name = "top"', f"z = {T + H:g}", f"thickness = {T:g}{sub}",
+             "[[layer]]", 'name = "bottom"', "z = 0", f"thickness = {T:g}{sub}",
+             "[[copper]]", 'layer = "top"', f"rect = [0, {-W / 2:g}, {length:g}, {W / 2:g}]",
+             "[[copper]]", 'layer = "bottom"', f"rect = [0, {-PLANE / 2:g}, {length:g}, {PLANE / 2:g}]",
+             "[[via]]", f"at = [{length - W / 2:g}, 0]", "drill = 0.3",
+             "[[terminal]]", 'name = "S"', 'layer = "top"', f"rect = [0, {-W / 2:g}, 0.1, {W / 2:g}]",
+             "[[terminal]]", 'name = "G"', 'layer = "bottom"', f"rect = [0, {-PLANE / 2:g}, 0.1, {PLANE / 2:g}]",
+             "[[port]]", 'name = "p"', 'plus = "S"', 'minus = "G"',
+             "[sweep]", f"frequencies = [0, {F:g}]"]
+    if mesh is not None:
+        lines += ["[mesh]", f"max_edge = {mesh[0]:g}", f"min_edge = {mesh[1]:g}"]
+    return "\n".join(lines) + "\n"
+
+
+def solve_length(length, folder, **kw):
+    """(L, R at DC and 100 MHz, unknowns, notes) of one strip length."""
+    from geometry.case import load_case
+    from solver.cli import run_case
+
+    path = Path(folder) / f"strip_{length:g}.toml"
+    path.write_text(case_text(length, **kw))
+    case = load_case(path)
+    result, mesh, system, _ = run_case(case, None, quiet=True, write=False)
+    return (result.inductance[:, 0, 0], result.resistance[:, 0, 0], system.network.n_branches,
+            mesh.n_triangles, case)
+
+
+def per_length(a, b, la, lb):
+    return (b - a) / ((lb - la) * 1e-3)
+
+
+def main(argv=None):
+    p = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    p.add_argument("--sublayers", type=int)
+    p.add_argument("--max-edge", type=float)
+    p.add_argument("--min-edge", type=float)
+    p.add_argument("--lengths", type=float, nargs=2, default=[20.0, 30.0])
+    args = p.parse_args(argv)
+    mesh = (args.max_edge, args.min_edge) if args.max_edge else None
+    out = []
+    with tempfile.TemporaryDirectory() as folder:
+        for length in args.lengths:
+            t = time.perf_counter()
+            ell, r, n, tris, case = solve_length(length, folder, sublayers=args.sublayers, mesh=mesh)
+            out.append((ell, r))
+            print(f"{length:g} mm: {tris} triangles, {n} unknowns, {time.perf_counter() - t:.0f} s, "
+                  f"L {ell[1] * 1e9:.4f} nH, R {r[1] * 1e3:.3f} mohm", flush=True)
+    for note in case.notes:
+        print("note:", note)
+    (la, ra), (lb, rb) = out
+    dl = per_length(la, lb, *args.lengths)
+    dr = per_length(ra, rb, *args.lengths)
+    ref = microstrip_inductance_per_length(W * 1e-3, H * 1e-3, T * 1e-3)
+    ext = dl[1] - dr[1] / (2 * math.pi * F)
+    print(f"L' DC {dl[0] * 1e9:.2f} nH/m; 100 MHz: L' {dl[1] * 1e9:.2f} nH/m, R' {dr[1]:.3f} ohm/m, "
+          f"L' - R'/w {ext * 1e9:.2f} nH/m; Hammerstad & Jensen {ref * 1e9:.2f} nH/m")
+    print(f"error of L': {100 * (dl[1] / ref - 1):+.2f} %; of L' - R'/w: {100 * (ext / ref - 1):+.2f} %")
+    return 0
+
+
+if __name__ == "__main__":
+    sys.exit(main())
