@@ -18,7 +18,7 @@ with ``L' ~ mu0 h / w``), the current follows the resistance and the edges need 
 
 ``h`` is the smallest face-to-face gap between neighbouring layers whose copper overlaps (for a
 single layer, or layers that do not overlap, ``w`` stands for it). ``w`` is the smallest of
-``2 area / perimeter`` over the copper pieces holding at least ``MIN_PIECE`` of their layer's
+``2 area / perimeter`` (of the outline, holes filled) over the copper pieces holding at least ``MIN_PIECE`` of their layer's
 copper (for a long trace: its width), so that a stray sliver does not set the mesh of the board.
 """
 from __future__ import annotations
@@ -58,7 +58,8 @@ def trace_width(layout: Layout) -> float:
         total = geom.area
         for piece in shapely.get_parts(geom):
             if piece.area >= MIN_PIECE * total and piece.length > 0:
-                widths.append(2.0 * piece.area / piece.length)
+                outline = shapely.Polygon(piece.exterior)        # drill holes do not narrow it
+                widths.append(2.0 * outline.area / outline.length)
     return min(widths) if widths else math.inf
 
 
@@ -104,18 +105,21 @@ def default_mesh(layout: Layout, f_max: float, unit_scale: float = 1e-3, unit: s
     w, h = trace_width(layout), return_gap(layout)
     if not math.isfinite(w):
         return MeshOptions(), "[mesh]: no copper; built-in sizes"
+    scale = f"min(height, width / 2) = {min(h, 0.5 * w) / unit_scale:.3g} {unit}" if math.isfinite(h) \
+        else f"width / 2 = {0.5 * w / unit_scale:.3g} {unit} (no return copper on a neighbouring layer)"
+    h = min(h, w)
     s = min(h, 0.5 * w)
     max_edge = max(s, min(MAX_PER_SCALE * s, MAX_EDGE_CAP))
     f_c = crowding_frequency(layout, h)
     crowded = f_max > f_c
     min_edge = s if crowded else max_edge / DC_RATIO
     q = lambda x: f"{x / unit_scale:.3g} {unit}"  # noqa: E731
-    height = f"height over the return copper {q(h)}, " if math.isfinite(h) else ""
+    height = f"height over the return copper {q(h)}, " if "height" in scale else ""
     why = (f"the current crowds above {f_c:.3g} Hz, below the top frequency {f_max:.3g} Hz: "
            f"copper edges that face another layer and the copper under them get "
            f"{q(0.5 * min_edge)}" if crowded else
            f"the sweep stays below {f_c:.3g} Hz, where the current starts to crowd: no edge refinement")
     note = (f"[mesh] not given: max_edge {q(max_edge)}, min_edge {q(min_edge)}, from the narrowest "
-            f"trace {q(w)}, {height}length scale s = min(height, width / 2) = {q(s)}, max_edge = "
+            f"trace {q(w)}, {height}length scale s = {scale}, max_edge = "
             f"{MAX_PER_SCALE:g} s (at most {q(MAX_EDGE_CAP)}); {why}")
     return MeshOptions(max_edge=max_edge, min_edge=min_edge), note

@@ -8,7 +8,7 @@ one face (``Z_s = k / (sigma tanh(k t))``, ``k = sqrt(j w mu0 sigma)``; Ramo, Wh
 Duzer 1994, *Fields and Waves in Communication Electronics*, sec. 5.5) in
 ``tests/validation/test_sublayer_rule.py``: with the same sublayers the slab's resistance is
 within 8 % (one sublayer) and 6 % (three to eight) at every frequency up to that limit, and
-three sublayers already err by -11 % at 1.3 times the limit.
+three sublayers already read 11 % low at 1.75 times it (outer sublayer 1.32 skin depths).
 
 ``sublayers = "auto"`` (the case-file default) picks the fewest sublayers (1, then 3 to
 ``MAX_SUBLAYERS``; two equal halves of a lone conductor would carry equal currents) that
