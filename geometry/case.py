@@ -495,7 +495,9 @@ def _mesh(item, default):
     min_edge = f.length("min_edge", min(default.min_edge, max_edge), positive=True)
     if min_edge > max_edge:
         raise f.fail(f"'min_edge' {f.show(min_edge)} must not exceed 'max_edge' {f.show(max_edge)}")
-    return MeshOptions(max_edge=max_edge, min_edge=min_edge)
+    under = default.under_edges and not {"max_edge", "min_edge"} <= set(f.data)
+    return MeshOptions(max_edge=max_edge, min_edge=min_edge, under_edges=under,
+                       grading=default.grading if under else None)
 
 
 def _window(item):

@@ -1,15 +1,19 @@
 """Mesh sizes for a case without a ``[mesh]`` table, chosen from its geometry and top frequency.
 
 At high frequency the current of a trace over return copper crowds toward the trace's edges
-and the return current gathers under it, both over a width of the order of the height ``h``
-between the copper faces; a narrow trace is resolved by its width ``w``. The length scale
-``s = min(h, w / 2)`` sets the sizes (measured in ``scripts/default_accuracy.py``, see
-DEVELOPERS.md):
+and the return current gathers under them, over a width of the order of the height ``h``
+between the copper faces; a narrow trace needs a few triangles across its width ``w``. The
+edge length ``s = min(h, w / 4)`` goes where the current crowds, and sets the rest (measured in
+``scripts/default_accuracy.py``, see DEVELOPERS.md):
 
-- ``min_edge = s``: the mesher puts ``FACING_FRACTION * min_edge`` on copper edges that face a
-  neighbouring layer and under the edges of the neighbouring layer's copper
-  (:mod:`geometry.meshing`), ``min_edge`` at terminals and re-entrant corners;
-- ``max_edge = MAX_PER_SCALE * s``, at most ``MAX_EDGE_CAP`` and at least ``min_edge``.
+- on copper edges that face a neighbouring layer's copper and on the copper under the edges of
+  a neighbouring layer's copper: ``s`` (``FACING_FRACTION * min_edge`` in
+  :mod:`geometry.meshing`, with ``MeshOptions.under_edges``);
+- ``min_edge = 2 s`` at terminals and re-entrant corners (and the start of the width rule: a
+  trace is at least two triangles across);
+- ``max_edge = MAX_PER_SCALE * s``, at most ``MAX_EDGE_CAP``;
+- growth ``GRADING`` per unit distance away from those features (the mesher's own is 0.4):
+  the current density falls off over a few ``h``, and sublayers multiply every triangle.
 
 Below the frequency where the current starts to crowd (the skin depth at the top frequency
 larger than ``sqrt(2 t h)``: there ``w L' = R'`` for a trace of thickness ``t`` at height ``h``,
@@ -18,8 +22,9 @@ with ``L' ~ mu0 h / w``), the current follows the resistance and the edges need 
 
 ``h`` is the smallest face-to-face gap between neighbouring layers whose copper overlaps (for a
 single layer, or layers that do not overlap, ``w`` stands for it). ``w`` is the smallest of
-``2 area / perimeter`` (of the outline, holes filled) over the copper pieces holding at least ``MIN_PIECE`` of their layer's
-copper (for a long trace: its width), so that a stray sliver does not set the mesh of the board.
+``2 area / perimeter`` (of the outline, holes filled) over the copper pieces holding at least
+``MIN_PIECE`` of their layer's copper (for a long trace: its width), so that a stray sliver
+does not set the mesh of the board.
 """
 from __future__ import annotations
 
@@ -30,10 +35,12 @@ import shapely
 from geometry.model import Layout, MeshOptions
 
 MU0 = 4e-7 * math.pi
-MAX_PER_SCALE = 5.0
-"""``max_edge`` as a multiple of the length scale ``s``."""
+MAX_PER_SCALE = 10.0
+"""``max_edge`` as a multiple of the edge length ``s`` where the current crowds."""
 MAX_EDGE_CAP = 2e-3
 """Largest default ``max_edge`` in metres."""
+GRADING = 0.8
+"""Growth of the edge length per unit distance in the default mesh."""
 DC_RATIO = 4.0
 """``max_edge / min_edge`` when the sweep stays below the crowding frequency."""
 MIN_PIECE = 0.01
@@ -78,10 +85,8 @@ def return_gap(layout: Layout) -> float:
 
 
 def crowding_frequency(layout: Layout, gap: float) -> float:
-    """Frequency in Hz above which the current crowds: skin depth ``sqrt(2 t h)`` of the
-    thickest, best-conducting layer (``0`` when no gap is known)."""
-    if not math.isfinite(gap) or not layout.layers:
-        return 0.0
+    """Frequency in Hz above which the current crowds: skin depth ``sqrt(2 t h)`` for the
+    thickest, best-conducting layer at height ``gap`` (m) over its return."""
     t = max(la.thickness for la in layout.layers)
     sigma = max(la.conductivity for la in layout.layers)
     return 1.0 / (math.pi * MU0 * sigma * 2.0 * t * gap)
@@ -102,24 +107,29 @@ def default_mesh(layout: Layout, f_max: float, unit_scale: float = 1e-3, unit: s
     -------
     (MeshOptions, str)
     """
-    w, h = trace_width(layout), return_gap(layout)
+    w, gap = trace_width(layout), return_gap(layout)
     if not math.isfinite(w):
         return MeshOptions(), "[mesh]: no copper; built-in sizes"
-    scale = f"min(height, width / 2) = {min(h, 0.5 * w) / unit_scale:.3g} {unit}" if math.isfinite(h) \
-        else f"width / 2 = {0.5 * w / unit_scale:.3g} {unit} (no return copper on a neighbouring layer)"
-    h = min(h, w)
-    s = min(h, 0.5 * w)
-    max_edge = max(s, min(MAX_PER_SCALE * s, MAX_EDGE_CAP))
+    q = lambda x: f"{x / unit_scale:.3g} {unit}"  # noqa: E731
+    if math.isfinite(gap):
+        source = f"the narrowest trace {q(w)} and the height over the return copper {q(gap)}"
+    else:
+        source = f"the narrowest trace {q(w)} (no return copper on a neighbouring layer)"
+    h = min(gap, w)
+    s = min(h, 0.25 * w)
+    max_edge = max(2.0 * s, min(MAX_PER_SCALE * s, MAX_EDGE_CAP))
     f_c = crowding_frequency(layout, h)
     crowded = f_max > f_c
-    min_edge = s if crowded else max_edge / DC_RATIO
-    q = lambda x: f"{x / unit_scale:.3g} {unit}"  # noqa: E731
-    height = f"height over the return copper {q(h)}, " if "height" in scale else ""
-    why = (f"the current crowds above {f_c:.3g} Hz, below the top frequency {f_max:.3g} Hz: "
-           f"copper edges that face another layer and the copper under them get "
-           f"{q(0.5 * min_edge)}" if crowded else
-           f"the sweep stays below {f_c:.3g} Hz, where the current starts to crowd: no edge refinement")
-    note = (f"[mesh] not given: max_edge {q(max_edge)}, min_edge {q(min_edge)}, from the narrowest "
-            f"trace {q(w)}, {height}length scale s = {scale}, max_edge = "
-            f"{MAX_PER_SCALE:g} s (at most {q(MAX_EDGE_CAP)}); {why}")
-    return MeshOptions(max_edge=max_edge, min_edge=min_edge), note
+    if crowded:
+        min_edge = 2.0 * s
+        how = (f"the current crowds above {f_c:.3g} Hz (skin depth sqrt(2 t h)), below the top "
+               f"frequency {f_max:.3g} Hz: {q(s)} = min(height, width / 4) on copper edges that "
+               f"face another layer and on the copper under them, min_edge 2 x, max_edge "
+               f"{MAX_PER_SCALE:g} x (at most {q(MAX_EDGE_CAP)}), growth {GRADING:g} per unit length")
+    else:
+        min_edge = max_edge / DC_RATIO
+        how = (f"the sweep stays below {f_c:.3g} Hz, where the current starts to crowd: no edge "
+               f"refinement (min_edge = max_edge / {DC_RATIO:g})")
+    note = f"[mesh] not given: max_edge {q(max_edge)}, min_edge {q(min_edge)} from {source}; {how}"
+    return (MeshOptions(max_edge=max_edge, min_edge=min_edge, under_edges=crowded,
+                        grading=GRADING if crowded else None), note)

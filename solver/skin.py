@@ -12,7 +12,7 @@ three sublayers already read 11 % low at 1.75 times it (outer sublayer 1.32 skin
 
 ``sublayers = "auto"`` (the case-file default) picks the fewest sublayers (1, then 3 to
 ``MAX_SUBLAYERS``; two equal halves of a lone conductor would carry equal currents) that
-resolve the highest solved frequency, and lowers them again, largest share of unknowns first,
+resolve the highest solved frequency, and lowers them again, all ``"auto"`` layers together,
 while the mesh would exceed ``AUTO_UNKNOWN_BUDGET`` current unknowns (the dense path's
 practical size); every layer then left unresolved at a solved frequency where it is thicker
 than two skin depths is named in a warning.
@@ -32,6 +32,20 @@ AUTO_UNKNOWN_BUDGET = 20_000
 """Current unknowns that ``"auto"`` sublayers may raise a mesh to (dense L: about 3.2 GB)."""
 WARN_THICKNESS = 2.0
 """An unresolved layer thicker than this many skin depths at a solved frequency is warned about."""
+
+
+def hertz(f):
+    """``1.5e8 -> "150 MHz"`` (3 significant figures).
+
+    Examples
+    --------
+    >>> hertz(5.7e7), hertz(2e3), hertz(0.0)
+    ('57 MHz', '2 kHz', '0 Hz')
+    """
+    for scale, prefix in ((1e9, "G"), (1e6, "M"), (1e3, "k")):
+        if f >= scale:
+            return f"{f / scale:.3g} {prefix}Hz"
+    return f"{f:.3g} Hz"
 
 
 def skin_depth(frequency, conductivity):
@@ -109,8 +123,8 @@ def choose_sublayers(layers, edge_counts, f_max, other_unknowns=0, budget=AUTO_U
     other_unknowns : int
         Barrel and lumped branches.
     budget : int
-        Current unknowns that ``"auto"`` may reach; above it the ``"auto"`` layer with the most
-        unknowns steps down first (never below one sublayer, never a user's integer).
+        Current unknowns that ``"auto"`` may reach; above it every ``"auto"`` layer is held to
+        one fewer sublayer at a time (8, 7, ..., 3, then 1); a user's integer never changes.
 
     Returns
     -------
@@ -122,12 +136,11 @@ def choose_sublayers(layers, edge_counts, f_max, other_unknowns=0, budget=AUTO_U
     def total():
         return other_unknowns + sum(k * e for k, e in zip(n, edge_counts))
 
-    while total() > budget:
-        movable = [i for i in range(len(layers)) if auto[i] and n[i] > 1]
-        if not movable:
+    wanted = list(n)
+    for cap in reversed(_choices()[:-1]):
+        if total() <= budget:
             break
-        i = max(movable, key=lambda j: (n[j] * edge_counts[j], -j))
-        n[i] = 1 if n[i] == 3 else n[i] - 1
+        n = [min(k, cap) if a else k for k, a in zip(wanted, auto)]
     return n
 
 
@@ -173,9 +186,9 @@ def skin_warnings(layers, n_sub, frequencies, *, source=""):
         why = ("set by the case" if isinstance(layer.sublayers, int)
                else f"lowered from {need} by \"auto\" to keep the mesh within "
                     f"{AUTO_UNKNOWN_BUDGET:,} unknowns")
+        what = f"its {n} sublayers ({why}) resolve" if n > 1 else f"its one sublayer ({why}) resolves"
         out.append(f"{prefix}layer '{layer.name}': {layer.thickness * 1e6:.3g} um copper is "
                    f"{layer.thickness / float(skin_depth(f, layer.conductivity)):.1f} skin depths "
-                   f"thick at {f:.4g} Hz but its {n} sublayer{'s' if n > 1 else ''} ({why}) resolve "
-                   f"skin effect only up to {f_res:.3g} Hz: R there is too low and L too high; "
-                   f"use sublayers = {need} (or \"auto\") for that layer")
+                   f"thick at {hertz(f)} but {what} skin effect only up to {hertz(f_res)}: there "
+                   f"and above, R reads low and L high; sublayers = {need} would resolve it")
     return out

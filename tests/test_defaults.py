@@ -5,7 +5,8 @@ import math
 import pytest
 
 from geometry.case import load_case
-from geometry.mesh_defaults import MAX_EDGE_CAP, MAX_PER_SCALE, default_mesh, return_gap, trace_width
+from geometry.mesh_defaults import (GRADING, MAX_EDGE_CAP, MAX_PER_SCALE, default_mesh, return_gap,
+                                     trace_width)
 from geometry.meshing import triangulate
 from geometry.model import Layer, MeshOptions
 from solver.network import build_network
@@ -38,7 +39,8 @@ def test_an_integer_is_the_users_override_and_is_warned_about(tmp_path):
     assert net.layer_sublayers == (1, 1)
     lines = skin_warnings(case.layout.layers, net.layer_sublayers, [0.0, 1e8], source="strip.toml")
     assert len(lines) == 2 and lines[0].startswith("strip.toml: layer 'top': 35 um copper is 5.3 skin")
-    assert "set by the case" in lines[0] and "use sublayers = 4" in lines[0]
+    assert "its one sublayer (set by the case) resolves" in lines[0]
+    assert "at 100 MHz" in lines[0] and "sublayers = 4 would resolve it" in lines[0]
 
 
 def test_no_warning_when_resolved_or_thin(tmp_path):
@@ -53,16 +55,17 @@ def test_no_warning_when_resolved_or_thin(tmp_path):
 
 
 def test_auto_stays_within_the_unknown_budget():
-    # The "auto" layer with the most unknowns steps down first (4 -> 3 -> 1); an integer stays.
+    # All "auto" layers step down together (5 -> 4 -> 3 -> 1); an integer stays.
     big, small = Layer("plane", 0.0, 35e-6, sublayers="auto"), Layer("trace", 1e-3, 35e-6, sublayers="auto")
     fixed = Layer("fixed", 2e-3, 35e-6, sublayers=2)
-    assert choose_sublayers([big, small], [4000, 1000], 1e8, budget=10**9) == [4, 4]
-    n = choose_sublayers([big, small, fixed], [4000, 1000, 500], 1e8, budget=12_000)
-    assert n == [1, 4, 2]                       # 4000 + 4000 + 1000 <= 12000
+    assert choose_sublayers([big, small], [4000, 1000], 2e8, budget=10**9) == [5, 5]
+    n = choose_sublayers([big, small, fixed], [4000, 1000, 500], 2e8, budget=16_000)
+    assert n == [3, 3, 2]                       # 4 each would be 21000
+    assert choose_sublayers([big, small, fixed], [4000, 1000, 500], 2e8, budget=10_000) == [1, 1, 2]
     assert choose_sublayers([fixed], [10**6], 1e8, budget=10) == [2]
-    lines = skin_warnings([big, small], n[:2], [1e8])
-    assert len(lines) == 1 and "lowered from 4 by \"auto\"" in lines[0]
-    assert auto_sublayers(big, 1e8) == 4
+    lines = skin_warnings([big, small], n[:2], [2e8])
+    assert len(lines) == 2 and "lowered from 5 by \"auto\"" in lines[0]
+    assert "skin effect only up to 57 MHz" in lines[0]
 
 
 def test_default_mesh_from_width_and_height(tmp_path):
@@ -70,10 +73,10 @@ def test_default_mesh_from_width_and_height(tmp_path):
     w, h = trace_width(case.layout), return_gap(case.layout)
     assert h == pytest.approx(0.2e-3, rel=1e-9)
     assert w == pytest.approx(60 / 62 * 1e-3, rel=1e-3)         # 2 area / perimeter of the strip
-    s = min(h, w / 2)
-    assert case.mesh.min_edge == pytest.approx(s) and case.mesh.max_edge == pytest.approx(MAX_PER_SCALE * s)
-    assert any(n.startswith("[mesh] not given: max_edge 1 mm, min_edge 0.2 mm") for n in case.notes)
-    # A narrow trace high over the plane: the width sets the scale.
+    s = min(h, w / 4)                                            # 0.2 mm: the height
+    assert case.mesh == MeshOptions(MAX_PER_SCALE * s, 2 * s, under_edges=True, grading=GRADING)
+    assert any(n.startswith("[mesh] not given: max_edge 2 mm, min_edge 0.4 mm") for n in case.notes)
+    # A narrow trace high over the plane: the width sets the scale (four triangles across).
     case = _case(tmp_path, "narrow.toml", width=0.2, height=0.5)
     assert case.mesh.min_edge == pytest.approx(0.5 * trace_width(case.layout))
     # A wide trace far from the plane: max_edge is capped.
@@ -85,8 +88,8 @@ def test_below_the_crowding_frequency_no_edge_refinement(tmp_path):
     # 35 um at 0.2 mm: the current crowds above about 0.31 MHz (skin depth sqrt(2 t h)).
     low, high = _case(tmp_path, "low.toml", f=1e5), _case(tmp_path, "high.toml", f=1e6)
     assert low.mesh.min_edge == pytest.approx(low.mesh.max_edge / 4)
-    assert high.mesh.min_edge == pytest.approx(0.2e-3)
-    assert "no edge refinement" in low.notes[-1]
+    assert high.mesh.min_edge == pytest.approx(0.4e-3) and high.mesh.under_edges
+    assert "no edge refinement" in low.notes[-1] and not low.mesh.under_edges
 
 
 def test_an_explicit_mesh_wins(tmp_path):
@@ -96,7 +99,7 @@ def test_an_explicit_mesh_wins(tmp_path):
     path = tmp_path / "half.toml"
     path.write_text(case_text(6.0) + "[mesh]\nmax_edge = 0.6\n")
     case = load_case(path)
-    assert case.mesh.max_edge == pytest.approx(0.6e-3) and case.mesh.min_edge == pytest.approx(0.2e-3)
+    assert case.mesh.max_edge == pytest.approx(0.6e-3) and case.mesh.min_edge == pytest.approx(0.4e-3)
     assert "the [mesh] table sets max_edge" in case.notes[-1]
 
 
@@ -106,4 +109,4 @@ def test_single_layer_uses_the_width():
     opts, note = default_mesh(lay, 1e8)
     assert math.isinf(return_gap(lay))
     assert opts.min_edge == pytest.approx(0.5 * trace_width(lay))
-    assert "height" not in note
+    assert "no return copper" in note
