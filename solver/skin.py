@@ -53,7 +53,7 @@ def skin_depth(frequency, conductivity):
 
     Examples
     --------
-    >>> round(skin_depth(1e8, 5.8e7) * 1e6, 2)   # copper at 100 MHz, um
+    >>> round(float(skin_depth(1e8, 5.8e7)) * 1e6, 2)   # copper at 100 MHz, um
     6.61
     """
     f = np.asarray(frequency, float)
@@ -85,7 +85,7 @@ def resolved_up_to(layer, n):
     --------
     >>> from geometry.model import Layer
     >>> round(resolved_up_to(Layer("L1", 0.0, 35e-6), 4) / 1e6)   # outer 5.1 um: MHz
-    167
+    166
     """
     outer = layer.thickness * sublayer_bounds(n)[1] / RESOLVED_OUTER
     return 1.0 / (math.pi * MU0 * layer.conductivity * outer ** 2)

@@ -10,7 +10,7 @@ from geometry.mesh_defaults import (GRADING, MAX_EDGE_CAP, MAX_PER_SCALE, defaul
 from geometry.meshing import triangulate
 from geometry.model import Layer, MeshOptions
 from solver.network import build_network
-from solver.skin import auto_sublayers, choose_sublayers, resolved_up_to, skin_warnings
+from solver.skin import choose_sublayers, resolved_up_to, skin_warnings
 from tests.validation.strip_case import case_text
 
 COARSE = MeshOptions(2e-3, 0.5e-3)
