@@ -133,7 +133,8 @@ def _cmd_inspect(args):
     out = _out_dir(args, args.case)
     mesh = triangulate(case.layout, case.mesh)
     info = write_inspect(case.layout, mesh, out, unit_scale=case.unit_scale, unit=case.unit,
-                         title=case.title, ports=case.ports)
+                         title=case.title, ports=case.ports,
+                         f_max=float(case.frequencies.max(initial=0.0)))
     from solver.outputs import format_inspect
     print(format_inspect(case, info))
     print(f"wrote {out}/")

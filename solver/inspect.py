@@ -21,7 +21,7 @@ SMALL_ANGLE_DEG = 25.0
 """Triangles with a smaller angle are counted (they come from sharp angles of the artwork)."""
 
 
-def write_inspect(layout, mesh, out_dir, *, unit_scale=1e-3, unit="mm", title="", ports=()):
+def write_inspect(layout, mesh, out_dir, *, unit_scale=1e-3, unit="mm", title="", ports=(), f_max=0.0):
     """Write ``inspect.json``, ``<layer>.png`` per layer and ``mesh.vtu`` into ``out_dir``.
 
     Parameters
@@ -37,6 +37,8 @@ def write_inspect(layout, mesh, out_dir, *, unit_scale=1e-3, unit="mm", title=""
         Name of the display unit, for axis labels.
     title : str
     ports : sequence of geometry.model.Port
+    f_max : float
+        Top frequency of the sweep in Hz (``sublayers = "auto"`` follows it).
 
     Returns
     -------
@@ -45,7 +47,7 @@ def write_inspect(layout, mesh, out_dir, *, unit_scale=1e-3, unit="mm", title=""
     """
     out = Path(out_dir)
     out.mkdir(parents=True, exist_ok=True)
-    info = inspect_summary(layout, mesh, ports=ports, title=title)
+    info = inspect_summary(layout, mesh, ports=ports, title=title, f_max=f_max)
     for index, name in enumerate(mesh.layer_names):
         _write_atomic(out / f"{_file_stem(name)}.png",
                       lambda tmp, i=index: _plot_layer(layout, mesh, i, tmp, unit_scale=unit_scale,
@@ -56,12 +58,12 @@ def write_inspect(layout, mesh, out_dir, *, unit_scale=1e-3, unit="mm", title=""
     return info
 
 
-def inspect_summary(layout, mesh, *, ports=(), title=""):
+def inspect_summary(layout, mesh, *, ports=(), title="", f_max=0.0):
     """The content of ``inspect.json`` (SI units).
 
     ``mesh.unknowns`` counts the current unknowns of the solve (edge currents of every
-    sublayer, via-barrel segments), ``mesh.nodes`` the potentials (bulk triangles and
-    equipotential regions), ``mesh.loops`` the loop currents of the dense solve, and
+    sublayer, ``"auto"`` sublayers chosen at ``f_max``; via-barrel segments), ``mesh.nodes``
+    the potentials (bulk triangles and equipotential regions), ``mesh.loops`` the loop currents of the dense solve, and
     ``dense_memory_bytes`` the peak memory of the dense path
     (:func:`solver.system.estimate_memory`, one frequency). Lumped branches (a handful) are
     not counted.
@@ -74,7 +76,7 @@ def inspect_summary(layout, mesh, *, ports=(), title=""):
             "islands": int(sum(1 for g in shapely.get_parts(copper) if g.area > 0.0)),
             "triangles": int(np.count_nonzero(mesh.tri_layer == index)),
         }
-    network = build_network(mesh, layout)
+    network = build_network(mesh, layout, f_max=f_max)
     unknowns, nodes = network.n_branches, network.n_nodes
     loops = unknowns - nodes + len(np.unique(network.bodies))
     angles = mesh.angles_deg.min(axis=1) if mesh.n_triangles else np.array([180.0])
