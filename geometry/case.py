@@ -15,6 +15,9 @@ Decisions not spelled out in the design:
   minimum average hole-wall copper of IPC-6012 class 3, from memory); span: all layers.
 - A via or drill ``layers`` list names the span's layers; the span is every layer from the
   highest to the lowest one named.
+- Without ``[mesh]`` (or for a key it leaves out) the sizes are chosen from the geometry and
+  the top frequency (:mod:`copperpath.geometry.mesh_defaults`); the note says how. A layer's
+  ``sublayers`` defaults to ``"auto"`` (chosen by the solver from the top solved frequency).
 - ``[sweep]`` ``start/stop/points`` is log-spaced and needs ``start > 0``; frequencies are
   sorted and repeated values dropped. Without ``[sweep]`` the sweep is DC only.
 - ``[circuit]``: ``current`` + ``rise_time`` set ``di_dt = current / rise_time``; ``port``
@@ -63,6 +66,7 @@ from copperpath.geometry.limits import (BOARD_EXTENT, RANGES, MAX_CASE_BYTES, MA
                              MIN_LENGTH, as_float, coordinate_ok, in_range, range_text, read_regular,
                              size_ok, text_problem)
 from copperpath.geometry.layout import CopperShape, build_layout, via_array
+from copperpath.geometry.mesh_defaults import default_mesh
 from copperpath.geometry.model import (Case, CircuitOptions, Layer, Lumped, MeshOptions, Port,
                             SolverOptions, Terminal, Via)
 from copperpath.geometry.physics import EPS_R_BOARD, quasi_static_frequency
@@ -389,7 +393,7 @@ def _check_unique(items):
 # ----------------------------------------------------------------------------- tables
 def _layer(item):
     f = _Fields(item, ("name", "z", "thickness", "conductivity", "sublayers", "artwork"))
-    sub = f.raw("sublayers", 1)
+    sub = f.raw("sublayers", "auto")
     if sub != "auto" and not (isinstance(sub, int) and not isinstance(sub, bool) and 1 <= sub <= MAX_SUBLAYERS):
         raise f.fail(f"'sublayers' must be an integer >= 1 or \"auto\", got {_show(sub)} "
                      f"(at most {MAX_SUBLAYERS})")
@@ -653,16 +657,18 @@ def _sweep(item):
     return np.geomspace(start, stop, points)
 
 
-def _mesh(item):
+def _mesh(item, default):
+    """``[mesh]``; a missing key (or table) takes the size chosen from the geometry."""
     if item is None:
-        return MeshOptions()
+        return default
     f = _Fields(item, ("max_edge", "min_edge"))
-    d = MeshOptions()
-    max_edge = f.length("max_edge", d.max_edge, positive=True)
-    min_edge = f.length("min_edge", min(d.min_edge, max_edge), positive=True)
+    max_edge = f.length("max_edge", max(default.max_edge, f.length("min_edge", 0.0)), positive=True)
+    min_edge = f.length("min_edge", min(default.min_edge, max_edge), positive=True)
     if min_edge > max_edge:
         raise f.fail(f"'min_edge' {f.show(min_edge)} must not exceed 'max_edge' {f.show(max_edge)}")
-    return MeshOptions(max_edge=max_edge, min_edge=min_edge)
+    under = default.under_edges and not {"max_edge", "min_edge"} <= set(f.data)
+    return MeshOptions(max_edge=max_edge, min_edge=min_edge, under_edges=under,
+                       grading=default.grading if under else None)
 
 
 def _window(item):
@@ -970,7 +976,6 @@ def load_case(path, *, read_artwork=None):
     drills = tuple(_drill(it, layers) for it in arrays["drill"])
     frequencies = _sweep(singles.get("sweep"))
     window = _window(singles.get("window"))
-    mesh = _mesh(singles.get("mesh"))
     solver = _solver(singles.get("solver"))
     scale = unit_scale(doc["unit"])
     artwork, more_vias, notes, warnings, contents = _board_inputs(
@@ -991,6 +996,12 @@ def load_case(path, *, read_artwork=None):
     if len(layout.vias) < len(vias):
         notes.append(f"[window]: {len(vias) - len(layout.vias)} of {len(vias)} vias lie outside "
                      "the window and are dropped")
+    auto_mesh, note = default_mesh(layout, float(frequencies.max()), scale, doc["unit"])
+    mesh = _mesh(singles.get("mesh"), auto_mesh)
+    given = singles["mesh"].data if "mesh" in singles else {}
+    if not {"max_edge", "min_edge"} <= set(given):
+        notes.append(note if not given else f"{note} (the [mesh] table sets "
+                     + ", ".join(sorted(k for k in given if k in ("max_edge", "min_edge"))) + ")")
     found = _check_ports(layout, ports, lumped, arrays["port"])
     warnings += _via_warnings(path, layout, scale, doc["unit"])
     warnings += _island_warnings(path, found, ports, scale, doc["unit"])

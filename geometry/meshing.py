@@ -22,7 +22,8 @@ Size field (see :class:`SizeField`)
     enters an equipotential) and at re-entrant copper corners,
     about half the local width in traces and necks narrower than ``2 * max_edge`` (so a trace
     is about two triangles across), and grows away from these features at ``GRADING`` (edge
-    growth per unit distance) up to ``max_edge``. Straight copper edges are not refined.
+    growth per unit distance; ``MeshOptions.grading`` when given) up to ``max_edge``.
+    Straight copper edges are not refined.
     The local width is measured by erosion: a copper point farther than ``2 r`` from the
     copper eroded by ``r`` lies in a feature narrower than ``2 r``. Inside a region the
     target is ``max_edge`` (an equipotential needs no resolution; Triangle's quality bound
@@ -211,7 +212,7 @@ def _overlap_groups(shapes):
 class SizeField:
     """Target triangle edge length over one layer, metres.
 
-    ``h(x) = min(max_edge, min_s(h_s + GRADING * |x - p_s|))`` over the feature points
+    ``h(x) = min(max_edge, min_s(h_s + grading * |x - p_s|))`` over the feature points
     ``p_s``, clipped to ``[min_edge, max_edge]``, and ``max_edge`` inside the regions. The
     features are the points of region boundaries inside the copper and of re-entrant corners
     (``h_s = min_edge``), and, for each width level ``r``, those of the evaluation points that
@@ -235,6 +236,8 @@ class SizeField:
     facing : scipy.spatial.cKDTree or None
         Points on copper edges that face a neighbouring layer's copper, where the edge is
         ``FACING_FRACTION * min_edge``.
+    grading : float
+        Growth of the edge length per unit distance from a feature.
     """
 
     min_edge: float
@@ -244,6 +247,7 @@ class SizeField:
     levels: tuple
     regions: object
     facing: object = None
+    grading: float = GRADING
 
     def __call__(self, xy: np.ndarray) -> np.ndarray:
         """Target edge length in metres at the points ``xy`` (K, 2) in metres, in copper."""
@@ -251,12 +255,12 @@ class SizeField:
         h = np.full(len(xy), self.max_edge)
         if self.features is not None:
             d, _ = self.features.query(xy, distance_upper_bound=self._reach(self.min_edge))
-            h = np.minimum(h, self.min_edge + GRADING * d)
+            h = np.minimum(h, self.min_edge + self.grading * d)
         floor = self.min_edge
         if self.facing is not None:
             floor = FACING_FRACTION * self.min_edge
             d, _ = self.facing.query(xy, distance_upper_bound=self._reach(floor))
-            h = np.minimum(h, floor + GRADING * d)
+            h = np.minimum(h, floor + self.grading * d)
         if self.levels and self.boundary is not None:
             to_edge, _ = self.boundary.query(xy, distance_upper_bound=self.levels[-1][0])
             for r, eroded in self.levels:
@@ -268,7 +272,7 @@ class SizeField:
                 lower = np.flatnonzero(h > h0)
                 if len(narrow) and len(lower):
                     d, _ = cKDTree(xy[narrow]).query(xy[lower], distance_upper_bound=self._reach(h0))
-                    h[lower] = np.minimum(h[lower], h0 + GRADING * d)
+                    h[lower] = np.minimum(h[lower], h0 + self.grading * d)
         h = np.clip(h, floor, self.max_edge)
         if self.regions is not None:
             h[shapely.contains_xy(self.regions, xy[:, 0], xy[:, 1])] = self.max_edge
@@ -276,7 +280,7 @@ class SizeField:
 
     def _reach(self, h0):
         """Distance beyond which a feature of edge ``h0`` no longer lowers ``max_edge``."""
-        return max(self.max_edge - h0, 0.0) / GRADING
+        return max(self.max_edge - h0, 0.0) / self.grading
 
 
 def size_field(copper, regions, options: MeshOptions, facing=None) -> SizeField:
@@ -292,7 +296,9 @@ def size_field(copper, regions, options: MeshOptions, facing=None) -> SizeField:
     facing : shapely geometry, optional
         Copper of the neighbouring layers. Edges of this layer's copper that lie over it face
         another conductor: at high frequency the current crowds there, so they get
-        ``FACING_FRACTION * min_edge`` (straight edges facing nothing are not refined).
+        ``FACING_FRACTION * min_edge`` (straight edges facing nothing are not refined); with
+        ``options.under_edges`` so does this layer's copper under the edges of ``facing``,
+        where the return current gathers.
 
     Returns
     -------
@@ -312,7 +318,12 @@ def size_field(copper, regions, options: MeshOptions, facing=None) -> SizeField:
     if facing is not None and not facing.is_empty and not copper.is_empty:
         xy = shapely.get_coordinates(shapely.segmentize(copper.boundary, 0.25 * lo))
         shapely.prepare(facing)
-        xy = xy[shapely.contains_xy(facing, xy[:, 0], xy[:, 1])]
+        xy = [xy[shapely.contains_xy(facing, xy[:, 0], xy[:, 1])]]
+        if options.under_edges:
+            under = shapely.get_coordinates(shapely.segmentize(facing.boundary, 0.25 * lo))
+            shapely.prepare(copper)
+            xy.append(under[shapely.contains_xy(copper, under[:, 0], under[:, 1])])
+        xy = np.concatenate(xy)
         facing_tree = cKDTree(xy) if len(xy) else None
     pts = np.concatenate(pts)
     levels = []
@@ -323,7 +334,7 @@ def size_field(copper, regions, options: MeshOptions, facing=None) -> SizeField:
         r *= math.sqrt(2.0)
     boundary = None if copper.is_empty else tree(copper.boundary, 0.25 * lo)
     return SizeField(lo, hi, cKDTree(pts) if len(pts) else None, boundary, tuple(levels), union,
-                     facing_tree)
+                     facing_tree, options.grading or GRADING)
 
 
 def _reentrant_corners(copper) -> np.ndarray:

@@ -131,10 +131,18 @@ class Lumped:
 
 @dataclass(frozen=True)
 class MeshOptions:
-    """Target triangle edge lengths in metres."""
+    """Target triangle edge lengths in metres.
+
+    ``under_edges``: also refine a layer's copper under the edges of a neighbouring layer's
+    copper, where the return current gathers (the sizes chosen for a case without ``[mesh]``
+    do; a ``[mesh]`` table that gives both sizes does not). ``grading``: growth of the edge
+    length per unit distance from a refined feature (``None``: the mesher's 0.4).
+    """
 
     max_edge: float = 0.5e-3
     min_edge: float = 0.05e-3
+    under_edges: bool = False
+    grading: float | None = None
 
 
 @dataclass(frozen=True)

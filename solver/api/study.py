@@ -222,6 +222,10 @@ def solve(case, frequencies=None, method=None, *, tolerance=None, progress=None,
     result = sweep(system, freqs, title=case.title, progress=progress, method=method, rtol=rtol)
     timing["solve"] = time.perf_counter() - t
     _warn_checks(case, result, rtol)
+    from copperpath.solver.output.outputs import case_skin_warnings
+
+    for line in case_skin_warnings(case, system, result):
+        warnings.warn(line, CopperpathWarning, stacklevel=2)
     return Solution(case=case, mesh=mesh, system=system, result=result, timing=timing)
 
 

@@ -15,6 +15,7 @@ import scipy.sparse as sp
 from scipy.sparse.csgraph import connected_components
 
 from copperpath.geometry.errors import InputError
+from copperpath.solver.graph.skin import choose_sublayers, sublayer_bounds
 
 EDGE, BARREL, LUMPED = 0, 1, 2
 
@@ -61,6 +62,8 @@ class Network:
     branch_base : ndarray of int64, shape (B,)
         For an edge branch on sublayer ``s > 0``, the branch of the same edge on sublayer 0;
         -1 otherwise.
+    layer_sublayers : tuple of int
+        Sublayers of each mesh layer (``"auto"`` resolved).
     """
 
     n_nodes: int
@@ -81,6 +84,7 @@ class Network:
     sheet_resistance: np.ndarray
     branch_sublayer: np.ndarray
     branch_base: np.ndarray
+    layer_sublayers: tuple = ()
 
     @property
     def n_branches(self) -> int:
@@ -155,37 +159,6 @@ def _via_node(mesh, tri_node, via, layer_index, layer_name, region_node):
     return int(tri_node[on[0]])
 
 
-def sublayer_bounds(n):
-    """Fractions of the thickness at the sublayer boundaries, graded toward both faces.
-
-    ``u_k = (1 - cos(pi k / n)) / 2`` for ``k = 0..n``: thin sublayers at the faces, where the
-    current crowds at high frequency, thick ones in the middle.
-
-    Examples
-    --------
-    >>> sublayer_bounds(3).round(3).tolist()
-    [0.0, 0.25, 0.75, 1.0]
-    """
-    return 0.5 * (1.0 - np.cos(np.pi * np.arange(n + 1) / n))
-
-
-def auto_sublayers(layer, f_max, n_max=8):
-    """Sublayers that resolve the skin depth at ``f_max``.
-
-    One sublayer while the copper is thinner than the skin depth
-    ``delta = 1 / sqrt(pi f mu0 sigma)``; otherwise enough that the outer sublayers are no
-    thicker than ``delta / 2`` (``n >= pi sqrt(t / (2 delta))``), at least 3 (two equal halves
-    of a lone symmetric conductor carry equal currents and show no skin effect) and at most
-    ``n_max``.
-    """
-    if f_max <= 0:
-        return 1
-    delta = 1.0 / np.sqrt(np.pi * f_max * 4e-7 * np.pi * layer.conductivity)
-    if layer.thickness <= delta:
-        return 1
-    return int(min(n_max, max(3, np.ceil(np.pi * np.sqrt(layer.thickness / (2 * delta))))))
-
-
 def build_network(mesh, layout, lumped=(), *, f_max=0.0):
     """Build the circuit graph of a meshed layout.
 
@@ -196,7 +169,8 @@ def build_network(mesh, layout, lumped=(), *, f_max=0.0):
         For the vias and the layers (z, thickness, conductivity, sublayers).
     lumped : sequence of copperpath.geometry.model.Lumped
     f_max : float
-        Highest frequency of the sweep in Hz, for ``sublayers = "auto"``.
+        Highest frequency of the sweep in Hz, for ``sublayers = "auto"``
+        (:func:`copperpath.solver.graph.skin.choose_sublayers`).
 
     Returns
     -------
@@ -216,8 +190,12 @@ def build_network(mesh, layout, lumped=(), *, f_max=0.0):
 
     # Sheet triangles: one per mesh triangle and sublayer of its layer.
     layers = [layout.layer(name) for name in mesh.layer_names]
-    n_sub = np.array([layer.sublayers if isinstance(layer.sublayers, int)
-                      else auto_sublayers(layer, f_max) for layer in layers], np.int64)
+    t0, t1 = mesh.edge_tris.T
+    n0, n1 = tri_node[t0], tri_node[t1]
+    keep = np.flatnonzero(n0 != n1)
+    per_layer = np.bincount(mesh.tri_layer[t0[keep]], minlength=len(layers))
+    n_sub = np.array(choose_sublayers(layers, per_layer, f_max,
+                                      other_unknowns=(len(layers) - 1) * len(layout.vias) + len(lumped)), np.int64)
     sheet_tri, sheet_z, sheet_res = [], [], []
     sheet_of = np.full((m, n_sub.max(initial=1)), -1)
     count = 0
@@ -235,9 +213,6 @@ def build_network(mesh, layout, lumped=(), *, f_max=0.0):
     sheet_res = np.concatenate(sheet_res) if sheet_res else np.zeros(0)
 
     # Edge branches: from triangle t0 to t1, one per sublayer; drop edges inside one node.
-    t0, t1 = mesh.edge_tris.T
-    n0, n1 = tri_node[t0], tri_node[t1]
-    keep = np.flatnonzero(n0 != n1)
     subs = n_sub[mesh.tri_layer[t0[keep]]]
     edge_of = np.repeat(keep, subs)                       # mesh edge of each edge branch
     sub_of = np.concatenate([np.arange(k) for k in subs]) if len(subs) else np.zeros(0, np.int64)
@@ -308,4 +283,5 @@ def build_network(mesh, layout, lumped=(), *, f_max=0.0):
                    barrels=barrels, lumped_rl=lumped_rl, node_layer=node_layer,
                    sheet_tri=sheet_tri, sheet_z=sheet_z, sheet_resistance=sheet_res,
                    branch_sublayer=np.concatenate([sub_of, np.zeros(n_other, np.int64)]),
-                   branch_base=np.concatenate([branch_base, np.full(n_other, -1)]).astype(np.int64))
+                   branch_base=np.concatenate([branch_base, np.full(n_other, -1)]).astype(np.int64),
+                   layer_sublayers=tuple(int(k) for k in n_sub))

@@ -154,7 +154,7 @@ def before_meshing(layout, options, *, f_max=0.0, ports=1, freqs=1, method="dens
     import shapely
 
     from copperpath.geometry.meshing import layer_copper
-    from copperpath.solver.graph.network import auto_sublayers
+    from copperpath.solver.graph.skin import auto_sublayers
 
     lo, hi = options.min_edge, options.max_edge
     band = 0.5 / (EQUILATERAL * GRADING) * max(1.0 / lo - 1.0 / hi, 0.0)

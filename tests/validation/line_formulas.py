@@ -54,3 +54,22 @@ def parallel_plate_inductance_per_length(w, h, t=0.0):
     Ampere's law plus the internal inductance of a flat conductor (Ramo, Whinnery & Van Duzer,
     Fields and Waves in Communication Electronics)."""
     return MU0 * (h + 2 * t / 3) / w
+
+
+def skin_depth(f, sigma=5.8e7):
+    """``1 / sqrt(pi f mu0 sigma)`` (m)."""
+    return 1.0 / np.sqrt(np.pi * f * MU0 * sigma)
+
+
+def microstrip_inductance_with_skin(w, h, t, f, sigma=5.8e7):
+    """Loop inductance per length of an air microstrip of copper many skin depths thick (H/m).
+
+    Wheeler's incremental-inductance rule (Wheeler 1942, "Formulas for the skin effect",
+    Proc. IRE 30, pp. 412-424): the internal inductance of good conductors equals the rise of
+    the external inductance when every conductor surface recedes by ``delta / 2``. Applied to
+    Hammerstad & Jensen's external inductance (:func:`microstrip_inductance_per_length`): the
+    strip narrows and thins by ``delta``, the gap grows by ``delta`` (strip bottom and plane
+    top each recede). Its resistance per length is ``omega`` times the internal inductance.
+    """
+    d = skin_depth(f, sigma)
+    return microstrip_inductance_per_length(w - d, h + d, t - d)

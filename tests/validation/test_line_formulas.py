@@ -2,8 +2,10 @@
 import numpy as np
 import pytest
 
-from tests.validation.line_formulas import (ETA0, microstrip_z0_hammerstad_jensen,
-                                            microstrip_z0_wheeler)
+from tests.validation.line_formulas import (ETA0, MU0, microstrip_inductance_per_length,
+                                            microstrip_inductance_with_skin,
+                                            microstrip_z0_hammerstad_jensen, microstrip_z0_wheeler,
+                                            skin_depth)
 
 
 @pytest.mark.parametrize("u", [0.1, 0.3, 1.0, 3.0, 10.0])
@@ -31,3 +33,19 @@ def test_thickness_correction_lowers_impedance_and_vanishes():
     z0 = microstrip_z0_hammerstad_jensen(1.0, 0.5)
     assert microstrip_z0_hammerstad_jensen(1.0, 0.5, 1e-9) == pytest.approx(z0, rel=1e-5)
     assert microstrip_z0_hammerstad_jensen(1.0, 0.5, 0.035) < z0
+
+
+def test_wheeler_rule_gives_the_surface_impedance_of_wide_plates():
+    # Two wide facing plates with skin-effect current on the facing faces: each face's surface
+    # impedance (1 + j) / (sigma delta) (Ramo, Whinnery & Van Duzer) gives an internal
+    # inductance mu0 delta / (2 w) per face, mu0 delta / w in all. Wheeler's rule on the
+    # Hammerstad & Jensen line must give the same in the wide-strip limit.
+    w, h, t, f = 0.5, 1e-3, 35e-6, 1e8
+    internal = microstrip_inductance_with_skin(w, h, t, f) - microstrip_inductance_per_length(w, h, t)
+    assert internal == pytest.approx(MU0 * skin_depth(f) / w, rel=0.02)
+
+
+def test_wheeler_rule_vanishes_for_perfect_conductors():
+    w, h, t = 1e-3, 0.2e-3, 35e-6
+    assert microstrip_inductance_with_skin(w, h, t, 1e8, sigma=1e16) == pytest.approx(
+        microstrip_inductance_per_length(w, h, t), rel=1e-6)

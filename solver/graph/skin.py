@@ -1,0 +1,195 @@
+"""Skin depth and sublayers: how many a layer gets, and up to which frequency they resolve it.
+
+A layer split into ``n`` sublayers (boundaries :func:`sublayer_bounds`, thin at both faces)
+carries a uniform current in each. It *resolves* skin effect at frequency ``f`` while its
+outer sublayers are no thicker than the skin depth ``delta(f) = 1 / sqrt(pi f mu0 sigma)``
+(``RESOLVED_OUTER``). Checked against the exact solution of a conductor slab with the field on
+one face (``Z_s = k / (sigma tanh(k t))``, ``k = sqrt(j w mu0 sigma)``; Ramo, Whinnery & Van
+Duzer 1994, *Fields and Waves in Communication Electronics*, sec. 5.5) in
+``tests/validation/test_sublayer_rule.py``: with the same sublayers the slab's resistance is
+within 8 % (one sublayer) and 6 % (three to eight) at every frequency up to that limit, and
+three sublayers already read 11 % low at 1.75 times it (outer sublayer 1.32 skin depths).
+
+``sublayers = "auto"`` (the case-file default) picks the fewest sublayers (1, then 3 to
+``MAX_SUBLAYERS``; two equal halves of a lone conductor would carry equal currents) that
+resolve the highest solved frequency, and lowers them again, all ``"auto"`` layers together,
+while the mesh would exceed ``AUTO_UNKNOWN_BUDGET`` current unknowns (the dense path's
+practical size); every layer then left unresolved at a solved frequency where it is thicker
+than two skin depths is named in a warning.
+"""
+from __future__ import annotations
+
+import math
+
+import numpy as np
+
+from copperpath.geometry.physics import MU0
+
+RESOLVED_OUTER = 1.0
+"""Outer sublayer thickness, in skin depths, up to which skin effect counts as resolved."""
+MAX_SUBLAYERS = 8
+"""Most sublayers ``"auto"`` gives a layer."""
+AUTO_UNKNOWN_BUDGET = 20_000
+"""Current unknowns that ``"auto"`` sublayers may raise a mesh to (dense L: about 3.2 GB)."""
+WARN_THICKNESS = 2.0
+"""An unresolved layer thicker than this many skin depths at a solved frequency is warned about."""
+
+
+def hertz(f):
+    """``1.5e8 -> "150 MHz"`` (3 significant figures).
+
+    Examples
+    --------
+    >>> hertz(5.7e7), hertz(2e3), hertz(0.0)
+    ('57 MHz', '2 kHz', '0 Hz')
+    """
+    for scale, prefix in ((1e9, "G"), (1e6, "M"), (1e3, "k")):
+        if f >= scale:
+            return f"{f / scale:.3g} {prefix}Hz"
+    return f"{f:.3g} Hz"
+
+
+def skin_depth(frequency, conductivity):
+    """Skin depth ``1 / sqrt(pi f mu0 sigma)`` in metres (``inf`` at DC).
+
+    Examples
+    --------
+    >>> round(float(skin_depth(1e8, 5.8e7)) * 1e6, 2)   # copper at 100 MHz, um
+    6.61
+    """
+    f = np.asarray(frequency, float)
+    with np.errstate(divide="ignore"):
+        return 1.0 / np.sqrt(np.pi * f * MU0 * conductivity)
+
+
+def sublayer_bounds(n):
+    """Fractions of the thickness at the sublayer boundaries, graded toward both faces.
+
+    ``u_k = (1 - cos(pi k / n)) / 2`` for ``k = 0..n``: thin sublayers at the faces, where the
+    current crowds at high frequency, thick ones in the middle.
+
+    Examples
+    --------
+    >>> sublayer_bounds(3).round(3).tolist()
+    [0.0, 0.25, 0.75, 1.0]
+    """
+    return 0.5 * (1.0 - np.cos(np.pi * np.arange(n + 1) / n))
+
+
+def resolved_up_to(layer, n):
+    """Highest frequency in Hz at which ``n`` sublayers of ``layer`` resolve skin effect.
+
+    The frequency whose skin depth equals the outer sublayer's thickness divided by
+    ``RESOLVED_OUTER``.
+
+    Examples
+    --------
+    >>> from copperpath.geometry.model import Layer
+    >>> round(resolved_up_to(Layer("L1", 0.0, 35e-6), 4) / 1e6)   # outer 5.1 um: MHz
+    166
+    """
+    outer = layer.thickness * sublayer_bounds(n)[1] / RESOLVED_OUTER
+    return 1.0 / (math.pi * MU0 * layer.conductivity * outer ** 2)
+
+
+def _choices():
+    return [1] + list(range(3, MAX_SUBLAYERS + 1))
+
+
+def auto_sublayers(layer, f_max):
+    """Fewest sublayers (1, or 3 to ``MAX_SUBLAYERS``) that resolve skin effect at ``f_max``.
+
+    Examples
+    --------
+    >>> from copperpath.geometry.model import Layer
+    >>> [auto_sublayers(Layer("L1", 0.0, 35e-6), f) for f in (0.0, 1e6, 1e8, 2e8)]
+    [1, 1, 4, 5]
+    """
+    for n in _choices():
+        if f_max <= resolved_up_to(layer, n):
+            return n
+    return MAX_SUBLAYERS
+
+
+def choose_sublayers(layers, edge_counts, f_max, other_unknowns=0, budget=AUTO_UNKNOWN_BUDGET):
+    """Sublayers of every layer: the layer's own integer, or the ``"auto"`` choice.
+
+    Parameters
+    ----------
+    layers : sequence of copperpath.geometry.model.Layer
+    edge_counts : sequence of int
+        Edge branches of each layer with one sublayer.
+    f_max : float
+        Highest solved frequency, Hz.
+    other_unknowns : int
+        Barrel and lumped branches.
+    budget : int
+        Current unknowns that ``"auto"`` may reach; above it every ``"auto"`` layer is held to
+        one fewer sublayer at a time (8, 7, ..., 3, then 1); a user's integer never changes.
+
+    Returns
+    -------
+    list of int
+    """
+    auto = [not isinstance(la.sublayers, int) for la in layers]
+    n = [auto_sublayers(la, f_max) if a else la.sublayers for la, a in zip(layers, auto)]
+
+    def total():
+        return other_unknowns + sum(k * e for k, e in zip(n, edge_counts))
+
+    wanted = list(n)
+    for cap in reversed(_choices()[:-1]):
+        if total() <= budget:
+            break
+        n = [min(k, cap) if a else k for k, a in zip(wanted, auto)]
+    return n
+
+
+def skin_rows(layers, n_sub, frequencies):
+    """Per layer: ``(layer, sublayers, resolved up to Hz, t / delta at the top frequency)``."""
+    f_top = float(np.max(frequencies, initial=0.0))
+    rows = []
+    for layer, n in zip(layers, n_sub):
+        ratio = layer.thickness / skin_depth(f_top, layer.conductivity) if f_top > 0 else 0.0
+        rows.append((layer, int(n), resolved_up_to(layer, n), float(ratio)))
+    return rows
+
+
+def skin_warnings(layers, n_sub, frequencies, *, source=""):
+    """One warning per layer that does not resolve skin effect at a solved frequency where it
+    is thicker than ``WARN_THICKNESS`` skin depths.
+
+    Parameters
+    ----------
+    layers : sequence of copperpath.geometry.model.Layer
+    n_sub : sequence of int
+        Sublayers used for each layer.
+    frequencies : array_like
+        Solved frequencies in Hz.
+    source : str
+        Prefix of each line (the case file).
+
+    Returns
+    -------
+    list of str
+    """
+    prefix = f"{source}: " if source else ""
+    freqs = np.asarray(frequencies, float)
+    out = []
+    for layer, n, f_res, _ in skin_rows(layers, n_sub, freqs):
+        bad = freqs[(freqs > f_res)
+                    & (layer.thickness > WARN_THICKNESS * skin_depth(np.maximum(freqs, 1e-300),
+                                                                     layer.conductivity))]
+        if not len(bad):
+            continue
+        f = float(bad.min())
+        need = auto_sublayers(layer, float(freqs.max()))
+        why = ("set by the case" if isinstance(layer.sublayers, int)
+               else f"lowered from {need} by \"auto\" to keep the mesh within "
+                    f"{AUTO_UNKNOWN_BUDGET:,} unknowns")
+        what = f"its {n} sublayers ({why}) resolve" if n > 1 else f"its one sublayer ({why}) resolves"
+        out.append(f"{prefix}layer '{layer.name}': {layer.thickness * 1e6:.3g} um copper is "
+                   f"{layer.thickness / float(skin_depth(f, layer.conductivity)):.1f} skin depths "
+                   f"thick at {hertz(f)} but {what} skin effect only up to {hertz(f_res)}: there "
+                   f"and above, R reads low and L high; sublayers = {need} would resolve it")
+    return out
