@@ -87,12 +87,12 @@ def run_case(case, out, *, freqs=None, quiet=False, write=True):
     say(f"assembling ({mesh.n_triangles} triangles)")
     t = time.perf_counter()
     system = assemble(mesh, case.layout, case.ports, case.lumped, n_freqs=len(frequencies),
-                      f_max=float(frequencies.max(initial=0.0)))
+                      f_max=float(frequencies.max(initial=0.0)), method=case.solver.method,
+                      tolerance=case.solver.tolerance)
     timing["assemble"] = time.perf_counter() - t
     t = time.perf_counter()
     result = solve(system, frequencies, title=case.title,
-                   progress=None if quiet else _progress(Path(case.path).stem),
-                   method=case.solver.method, rtol=case.solver.tolerance)
+                   progress=None if quiet else _progress(Path(case.path).stem))
     timing["solve"] = time.perf_counter() - t
     checks = result.info["checks"]
     if checks["min_port_resistance_ohm"] is not None and checks["min_port_resistance_ohm"] <= 0:
