@@ -15,7 +15,8 @@ import shapely
 from geometry.meshing import layer_copper
 from solver.files import atomic_path
 from solver.network import build_network
-from solver.system import estimate_memory
+from solver.fast_memory import estimate_fast_memory
+from solver.system import choose_method, estimate_memory
 
 SMALL_ANGLE_DEG = 25.0
 """Triangles with a smaller angle are counted (they come from sharp angles of the artwork)."""
@@ -63,8 +64,9 @@ def inspect_summary(layout, mesh, *, ports=(), title=""):
     sublayer, via-barrel segments), ``mesh.nodes`` the potentials (bulk triangles and
     equipotential regions), ``mesh.loops`` the loop currents of the dense solve, and
     ``dense_memory_bytes`` the peak memory of the dense path
-    (:func:`solver.system.estimate_memory`, one frequency). Lumped branches (a handful) are
-    not counted.
+    (:func:`solver.system.estimate_memory`, one frequency), ``fast_memory_bytes`` that of the
+    fast path (:func:`solver.fast_memory.estimate_fast_memory`, one frequency) and ``method``
+    the path ``method = "auto"`` takes. Lumped branches (a handful) are not counted.
     """
     layers = {}
     for index, layer in enumerate(layout.layers):
@@ -96,6 +98,8 @@ def inspect_summary(layout, mesh, *, ports=(), title=""):
             "small_angle_triangles": int(np.count_nonzero(angles < SMALL_ANGLE_DEG)),
         },
         "dense_memory_bytes": estimate_memory(unknowns, loops, max(len(ports), 1)),
+        "fast_memory_bytes": estimate_fast_memory(unknowns, loops, max(len(ports), 1)),
+        "method": choose_method("auto", unknowns),
     }
 
 

@@ -86,9 +86,10 @@ class KrylovLoopSolver:
         return self.Ct @ (self.R @ i + 1j * w * (self.L @ i))
 
     def factor(self, w):
-        """Sparse LU of the preconditioner ``C^T R C + jw C^T L_near C``."""
-        M = (self.Rc + 1j * w * self.Lnc).tocsc()
-        return spla.splu(M, permc_spec="MMD_AT_PLUS_A")
+        """The preconditioner at ``w``: ``v -> M(w)^-1 v`` by a complex sparse LU of
+        ``M(w) = C^T R C + jw C^T L_near C``."""
+        lu = spla.splu((self.Rc + 1j * w * self.Lnc).tocsc(), permc_spec="MMD_AT_PLUS_A")
+        return lu.solve
 
     def __call__(self, w, b):
         """Solve ``A(w) x = b`` for every column of ``b`` (n, P).
@@ -100,9 +101,9 @@ class KrylovLoopSolver:
             message names the frequency, the iterations and the residual reached.
         """
         n = self.n
-        lu = self.factor(w)
+        psolve = self.factor(w)
         op = spla.LinearOperator((n, n), dtype=complex, matvec=lambda v: self.apply(w, v))
-        pre = spla.LinearOperator((n, n), dtype=complex, matvec=lu.solve)
+        pre = spla.LinearOperator((n, n), dtype=complex, matvec=psolve)
         x = np.empty(b.shape, complex)
         for j in range(b.shape[1]):
             rhs = np.ascontiguousarray(b[:, j], dtype=complex)
@@ -117,7 +118,7 @@ class KrylovLoopSolver:
             def tick(_):
                 count[0] += 1
 
-            x[:, j], info = spla.gmres(op, rhs, x0=lu.solve(rhs), rtol=self.rtol, atol=0.0,
+            x[:, j], info = spla.gmres(op, rhs, x0=psolve(rhs), rtol=self.rtol, atol=0.0,
                                        restart=self.restart, maxiter=self.max_cycles, M=pre,
                                        callback=tick, callback_type="pr_norm")
             res = float(np.linalg.norm(rhs - op @ x[:, j]) / norm)

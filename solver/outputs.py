@@ -171,5 +171,7 @@ def format_inspect(case, info):
     m = info["mesh"]
     lines.append(f"  mesh: {m['triangles']} triangles, {m['unknowns']} current unknowns, "
                  f"minimum angle {m['min_angle_deg']:.1f} deg")
-    lines.append(f"  dense solve needs about {info['dense_memory_bytes'] / 2**20:.1f} MiB")
+    lines.append(f"  dense solve needs about {info['dense_memory_bytes'] / 2**20:.1f} MiB, fast solve "
+                 f"about {info['fast_memory_bytes'] / 2**20:.1f} MiB (method = \"auto\" takes "
+                 f"{info['method']})")
     return "\n".join(lines)

@@ -37,11 +37,11 @@ except ImportError:        # the compressed operator lives on another branch unt
 
 @lru_cache(maxsize=None)
 def via_case():
-    """A 10 mm strip over a plane shorted by a via, two sublayers per layer."""
-    lay = gallery.strip_over_plane(length=10e-3, width=1e-3, height=0.2e-3, plane_width=4e-3)
+    """A 6 mm strip over a plane shorted by a via, two sublayers per layer."""
+    lay = gallery.strip_over_plane(length=6e-3, width=1e-3, height=0.2e-3, plane_width=3e-3)
     lay = dataclasses.replace(lay, layers=tuple(dataclasses.replace(la, sublayers=2)
                                                 for la in lay.layers))
-    mesh = triangulate(lay, MeshOptions(0.6e-3, 0.15e-3))
+    mesh = triangulate(lay, MeshOptions(1.0e-3, 0.3e-3))
     return lay, mesh, (Port("loop", "S", "G"),), ()
 
 
