@@ -66,13 +66,15 @@ def accuracy_for(tolerance):
     """
     if not tolerance > 0:
         raise ValueError(f"tolerance must be positive, got {tolerance!r}")
+    if tolerance >= 1e-2:
+        return Accuracy(3, 2.5, 1.5, True)
     if tolerance >= 1e-3:
-        return Accuracy(3, 2.5, 2.5, True)
+        return Accuracy(3, 3.0, 1.5, True)
     if tolerance >= 1e-4:
-        return Accuracy(3, 4.0, 3.0, True)
+        return Accuracy(3, 5.0, 1.5, True)
     if tolerance >= 1e-5:
-        return Accuracy(4, 5.0, 4.0, True)
-    return Accuracy(4, 7.0, 5.0, False)
+        return Accuracy(3, 8.0, 2.0, True)
+    return Accuracy(3, 10.0, 2.5, False)
 
 
 @dataclass(frozen=True, eq=False)
@@ -111,6 +113,8 @@ class SheetOperator:
     _plane_tri: np.ndarray = field(repr=False)
     _plane: np.ndarray = field(repr=False)
     _start: np.ndarray = field(repr=False)
+    _size: np.ndarray = field(repr=False)
+    _off: np.ndarray = field(repr=False)
     _w: np.ndarray = field(repr=False)
     _khat: np.ndarray = field(repr=False)
     _key: np.ndarray = field(repr=False)
@@ -122,7 +126,8 @@ class SheetOperator:
         n += self._corr.indices.nbytes + self._corr.indptr.nbytes
         for m in (self._coef, self._coef_t):
             n += m.data.nbytes + m.indices.nbytes + m.indptr.nbytes
-        for a in (self._plane_ptr, self._plane_tri, self._plane, self._start, self._w,
+        for a in (self._plane_ptr, self._plane_tri, self._plane, self._start, self._size,
+                  self._off, self._w,
                   self._khat, self._key):
             n += a.nbytes
         return int(n)
@@ -137,10 +142,11 @@ class SheetOperator:
         A branch pair is in the pattern when all its triangle pairs are near pairs of the
         correction; there the entry equals the dense matrix's. Symmetric.
         """
-        m = sp.csr_matrix((np.where(self._full, self._exact.data, 0.0), self._exact.indices,
-                           self._exact.indptr), shape=self.shape)
-        m.eliminate_zeros()
-        return m
+        keep = self._full
+        kept = np.concatenate([[0], np.cumsum(keep)])
+        indptr = kept[self._exact.indptr]
+        return sp.csr_matrix((self._exact.data[keep], self._exact.indices[keep], indptr),
+                             shape=self.shape)
 
     def __matmul__(self, x):
         x = np.asarray(x)
@@ -173,14 +179,14 @@ class SheetOperator:
             c1 = min(r.shape[1], c0 + chunk)
             ca = np.ascontiguousarray(a[:, c0:c1].T.reshape(c1 - c0, 3, v))
             q = np.zeros((c1 - c0, self.n_planes, 2, nx, ny), dtype)
-            _spread(ca, self._plane_ptr, self._plane_tri, self._start, self._w, q)
+            _spread(ca, self._plane_ptr, self._plane_tri, self._start, self._size, self._off, self._w, q)
             qh = scipy.fft.rfft2(q, s=(nxp, nyp), workers=WORKERS)
             del q
             ph = _convolve(qh, self._khat, self._key)
             del qh
             phi = scipy.fft.irfft2(ph, s=(nxp, nyp), workers=WORKERS)
             del ph
-            g = _gather(phi, self._plane, self._start, self._w, nx, ny)   # (kc, V, 4)
+            g = _gather(phi, self._plane, self._start, self._size, self._off, self._w)   # (kc, V, 4)
             out[:v, c0:c1] = (g[:, :, 1] + g[:, :, 3]).T
             out[v:2 * v, c0:c1] = -g[:, :, 0].T
             out[2 * v:, c0:c1] = -g[:, :, 2].T
@@ -188,11 +194,10 @@ class SheetOperator:
 
 
 @njit(parallel=True, cache=True)
-def _spread(ca, plane_ptr, plane_tri, start, w, q):
+def _spread(ca, plane_ptr, plane_tri, start, size, off, w, q):
     """Grid charges ``q`` (k, P, 2, nx, ny) of the triangle coefficients ``ca`` (k, 3, V)."""
     nk = ca.shape[0]
     npl = plane_ptr.size - 1
-    p = w.shape[2]
     for task in prange(nk * npl):
         c = task // npl
         pl = task % npl
@@ -200,11 +205,13 @@ def _spread(ca, plane_ptr, plane_tri, start, w, q):
             tri = plane_tri[t]
             al, bx, by = ca[c, 0, tri], ca[c, 1, tri], ca[c, 2, tri]
             i0, j0 = start[tri, 0], start[tri, 1]
-            for i in range(p):
-                for j in range(p):
-                    m0 = w[tri, 0, i, j]
-                    q[c, pl, 0, i0 + i, j0 + j] += al * w[tri, 1, i, j] - bx * m0
-                    q[c, pl, 1, i0 + i, j0 + j] += al * w[tri, 2, i, j] - by * m0
+            n = off[tri]
+            for i in range(size[tri, 0]):
+                for j in range(size[tri, 1]):
+                    m0 = w[0, n]
+                    q[c, pl, 0, i0 + i, j0 + j] += al * w[1, n] - bx * m0
+                    q[c, pl, 1, i0 + i, j0 + j] += al * w[2, n] - by * m0
+                    n += 1
 
 
 @njit(parallel=True, cache=True)
@@ -226,11 +233,10 @@ def _convolve(qh, khat, key):
 
 
 @njit(parallel=True, cache=True)
-def _gather(phi, plane, start, w, nx, ny):
+def _gather(phi, plane, start, size, off, w):
     """Per triangle ``(sum M0 phi_x, sum Mx phi_x, sum M0 phi_y, sum My phi_y)`` (k, V, 4)."""
     nk = phi.shape[0]
     v = start.shape[0]
-    p = w.shape[2]
     out = np.zeros((nk, v, 4))
     for tri in prange(v):
         pl = plane[tri]
@@ -240,14 +246,16 @@ def _gather(phi, plane, start, w, nx, ny):
             s1 = 0.0
             s2 = 0.0
             s3 = 0.0
-            for i in range(p):
-                for j in range(p):
+            n = off[tri]
+            for i in range(size[tri, 0]):
+                for j in range(size[tri, 1]):
                     fx = phi[c, pl, 0, i0 + i, j0 + j]
                     fy = phi[c, pl, 1, i0 + i, j0 + j]
-                    s0 += w[tri, 0, i, j] * fx
-                    s1 += w[tri, 1, i, j] * fx
-                    s2 += w[tri, 0, i, j] * fy
-                    s3 += w[tri, 2, i, j] * fy
+                    s0 += w[0, n] * fx
+                    s1 += w[1, n] * fx
+                    s2 += w[0, n] * fy
+                    s3 += w[2, n] * fy
+                    n += 1
             out[c, tri, 0] = s0
             out[c, tri, 1] = s1
             out[c, tri, 2] = s2
@@ -266,26 +274,51 @@ def _lagrange(t, p):
 
 
 def stencil_weights(verts, cent, area, origin, h, p):
-    """Stencil origin (V, 2) and weights ``(M0, Mx, My)`` (V, 3, p, p) of each triangle.
+    """Grid block and weights ``(M0, Mx, My)`` of each triangle.
 
-    ``M0`` distributes the triangle's area, ``Mx``/``My`` its first moments about the centroid,
-    onto the ``p x p`` nodes starting at ``start`` (Lagrange interpolation at a degree-6 rule,
-    so every moment of the density up to degree ``p - 1`` is kept exactly).
+    Every point of a degree-6 rule on the triangle is interpolated by the ``p x p`` Lagrange
+    stencil around it; a triangle's block is the union of its points' stencils (``p x p`` for a
+    triangle smaller than a spacing, more for a large one). ``M0`` distributes the triangle's
+    area, ``Mx``/``My`` its first moments about the centroid, so every moment of the density up
+    to degree ``p - 1`` about each point is kept exactly.
+
+    Returns
+    -------
+    start : ndarray of int64, shape (V, 2)
+        First node of each block.
+    size : ndarray of int64, shape (V, 2)
+        Block size in nodes.
+    off : ndarray of int64, shape (V + 1,)
+        Offset of each block in ``w`` (row-major ``size[0] x size[1]``).
+    w : ndarray, shape (3, off[-1])
+        ``M0`` (m^2), ``Mx``, ``My`` (m^3) per block node.
     """
-    u = (cent - origin) / h
-    start = np.floor(u - 0.5 * (p - 1) + 0.5).astype(np.int64)
     bary, wq = triangle_rule(6)
-    pts = np.einsum("qk,vkd->vqd", bary, verts)                 # (V, nq, 2)
-    loc = (pts - origin) / h - start[:, None, :]
     nq = len(wq)
+    pts = np.einsum("qk,vkd->vqd", bary, verts)                 # (V, nq, 2)
+    u = (pts - origin) / h
+    pstart = np.floor(u - 0.5 * (p - 1) + 0.5).astype(np.int64)   # (V, nq, 2)
+    start = pstart.min(axis=1)
+    size = pstart.max(axis=1) - start + p
+    off = np.zeros(len(cent) + 1, np.int64)
+    np.cumsum(size[:, 0] * size[:, 1], out=off[1:])
+    loc = u - pstart
     lx = _lagrange(loc[:, :, 0].ravel(), p).reshape(-1, nq, p)
     ly = _lagrange(loc[:, :, 1].ravel(), p).reshape(-1, nq, p)
     wa = wq[None, :] * area[:, None]                            # (V, nq)
     rel = pts - cent[:, None, :]
-    w = np.empty((len(cent), 3, p, p))
-    for k, f in enumerate((wa, wa * rel[:, :, 0], wa * rel[:, :, 1])):
-        w[:, k] = np.einsum("vq,vqi,vqj->vij", f, lx, ly)
-    return start, w
+    f = np.stack([wa, wa * rel[:, :, 0], wa * rel[:, :, 1]])    # (3, V, nq)
+    w = np.zeros((3, off[-1]))
+    sx = np.repeat(size[:, 1], nq)                              # row length of each point's block
+    di = (pstart - start[:, None, :]).reshape(-1, 2)
+    base = np.repeat(off[:-1], nq) + di[:, 0] * sx + di[:, 1]
+    lx, ly = lx.reshape(-1, p), ly.reshape(-1, p)
+    for i in range(p):
+        for j in range(p):
+            idx = base + i * sx + j
+            for k in range(3):
+                np.add.at(w[k], idx, f[k].ravel() * lx[:, i] * ly[:, j])
+    return start, size, off, w
 
 
 def _kernel_keys(uz):
@@ -355,7 +388,7 @@ def choose_spacing(cent, diam, n_planes, extent, acc):
     DEVELOPERS.md), the grid kept under 2^24 padded points per plane.
     """
     d_med = float(np.median(diam))
-    cands = d_med * np.geomspace(0.25, 8.0, 16)
+    cands = d_med * np.geomspace(0.1, 4.0, 17)
     best = None
     for h in cands:
         nxp = 2 * (extent[0] / h + acc.stencil + 2)
@@ -438,8 +471,8 @@ def build_sheet_operator(points, triangles, tri_z, half_branch, half_tri, half_v
     lo, hi = verts.reshape(-1, 2).min(axis=0), verts.reshape(-1, 2).max(axis=0)
     h = choose_spacing(cent, diam, n_planes, hi - lo, acc)
     origin = lo - (p + 1) * h
-    start, w = stencil_weights(verts, cent, area, origin, h, p)
-    nx, ny = (int(n) for n in start.max(axis=0) + p + 1)
+    start, size, off, w = stencil_weights(verts, cent, area, origin, h, p)
+    nx, ny = (int(n) for n in (start + size).max(axis=0) + 1)
     nxp, nyp = scipy.fft.next_fast_len(2 * nx - 1, real=True), scipy.fft.next_fast_len(2 * ny - 1, real=True)
     stage("grid")
 
@@ -447,7 +480,9 @@ def build_sheet_operator(points, triangles, tri_z, half_branch, half_tri, half_v
     near_ptr, near_other = nearfield.near_pair_list(cent, zmid, diam, acc.near_spacings * h,
                                                     acc.near_diameters)
     owner = np.repeat(np.arange(v), np.diff(near_ptr))
-    dmax = int(np.abs(start[owner] - start[near_other]).max(initial=0)) + p + 1
+    dmax = int(np.max(np.maximum(start[owner] + size[owner] - start[near_other],
+                                 start[near_other] + size[near_other] - start[owner]),
+                      initial=0)) + 1
     del owner
     key, reps = _kernel_keys(uz)
     quarters = [_sampled_kernel(tuple(uz[i]), tuple(uz[j]), h, max(nx, dmax), max(ny, dmax))
@@ -458,12 +493,11 @@ def build_sheet_operator(points, triangles, tri_z, half_branch, half_tri, half_v
     glx, glw = np.polynomial.legendre.leggauss(N_W)
     far_pts, far_wts, far_n = _far_rules(verts, cent, area)
     far_q = np.array([q for q, _ in FAR_LEVELS])
-    m0, mx, my = (np.ascontiguousarray(w[:, k]) for k in range(3))
     exact, grid = nearfield.pair_tables(verts, tris, cent, area, diam, zmid, tri_zi, zpar,
                                         near_ptr, near_other, obary, ow, nrule, glx, glw, W_PANEL,
-                                        far_pts, far_wts, far_n, far_q, start, tri_zi, m0, mx, my,
-                                        gk, key)
-    del far_pts, far_wts, m0, mx, my
+                                        far_pts, far_wts, far_n, far_q, start, size, off, w,
+                                        tri_zi, gk, key)
+    del far_pts, far_wts
     stage("near moments")
     flist = nearfield.symmetric_list(near_ptr, near_other)
     del near_ptr, near_other
@@ -491,4 +525,4 @@ def build_sheet_operator(points, triangles, tri_z, half_branch, half_tri, half_v
                          n_planes=n_planes, accuracy=acc, timing=timing, _corr=corr,
                          _exact=exact_m, _full=full, _coef=coef, _coef_t=coef.T.tocsr(),
                          _plane_ptr=plane_ptr, _plane_tri=plane_tri, _plane=tri_zi,
-                         _start=start, _w=w, _khat=khat, _key=key)
+                         _start=start, _size=size, _off=off, _w=w, _khat=khat, _key=key)
