@@ -159,7 +159,8 @@ class SheetOperator:
             r = np.concatenate([x2.real, x2.imag], axis=1)
         else:
             r = np.asarray(x2, dtype=np.float64)
-        y = self._corr @ r + self._far(r)
+        c = self._corr
+        y = _csr_product(c.indptr, c.indices, c.data, np.ascontiguousarray(r)) + self._far(r)
         if np.iscomplexobj(x2):
             y = y[:, :k] + 1j * y[:, k:]
         return y.reshape(x.shape)
@@ -191,6 +192,21 @@ class SheetOperator:
             out[v:2 * v, c0:c1] = -g[:, :, 0].T
             out[2 * v:, c0:c1] = -g[:, :, 2].T
         return self._coef_t @ out
+
+
+@njit(parallel=True, cache=True)
+def _csr_product(indptr, indices, data, x):
+    """``A @ x`` for a CSR matrix and a dense block (n, k), parallel over rows."""
+    n = indptr.size - 1
+    k = x.shape[1]
+    out = np.zeros((n, k))
+    for i in prange(n):
+        for p in range(indptr[i], indptr[i + 1]):
+            j = indices[p]
+            a = data[p]
+            for c in range(k):
+                out[i, c] += a * x[j, c]
+    return out
 
 
 @njit(parallel=True, cache=True)
