@@ -26,6 +26,7 @@ import numpy as np
 import scipy.fft
 import scipy.sparse as sp
 from numba import njit, prange
+from scipy.signal import fftconvolve
 
 from solver import nearfield
 from solver.kernels import averaged_kernel
@@ -391,7 +392,6 @@ def _near_count_estimate(cent, h, radius):
     r = int(math.ceil(radius / h))
     off = np.arange(-r, r + 1)
     disk = (np.hypot(off[:, None], off[None, :]) <= radius / h + 0.5).astype(float)
-    from scipy.signal import fftconvolve
     near = fftconvolve(hist, disk, mode="same")
     return float((hist * near).sum())
 
@@ -399,9 +399,10 @@ def _near_count_estimate(cent, h, radius):
 def choose_spacing(cent, diam, n_planes, extent, acc):
     """Grid spacing (m) that balances the FFT work against the near-pair work.
 
-    Candidates run from the smallest triangle size up; for each the cost per product is
-    modelled as ``FFT grid points x log + near pairs`` (weights measured on 2 cores, see
-    DEVELOPERS.md), the grid kept under 2^24 padded points per plane.
+    Candidates from 0.1 to 4 median triangle sizes; for each the cost of a product is modelled
+    as the FFT work plus :data:`NEAR_WEIGHT` times the pairs within ``near_spacings * h``
+    (counted on a centroid histogram; the pairs within ``near_diameters`` do not depend on
+    ``h``), the grid kept under 2^24 padded points.
     """
     d_med = float(np.median(diam))
     cands = d_med * np.geomspace(0.1, 4.0, 17)
@@ -423,7 +424,8 @@ def choose_spacing(cent, diam, n_planes, extent, acc):
 
 
 #: Relative cost weights of the spacing model: one FFT point-operation and one near triangle
-#: pair (its nine branch entries in the sparse product, its moments in the build).
+#: pair (its branch entries in the sparse product, its moments in the build); a rough
+#: estimate, not a fit.
 FFT_WEIGHT, NEAR_WEIGHT = 1.0, 60.0
 
 
