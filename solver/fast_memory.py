@@ -1,20 +1,21 @@
 """Peak memory of the fast path (compressed ``L``, sparse near-field preconditioner, GMRES),
 estimated from the unknown counts before anything is assembled.
 
-The coefficients are measured on the benchmark case of ``scripts/bench_fast.py`` (a four-layer
-board section, 10k-600k unknowns; see DEVELOPERS.md) and rounded up.
+The coefficients are measured on four-layer board sections (the pFFT table and the
+preconditioner measurements in DEVELOPERS.md, 6k-66k unknowns) and rounded up; they are not yet
+checked above 66k unknowns.
 """
 from __future__ import annotations
 
 #: Bytes of the compressed sheet operator per current unknown (grids, near-pair corrections).
-SHEET_BYTES_PER_BRANCH = 3000
+SHEET_BYTES_PER_BRANCH = 5000
 #: Nonzeros per row of the near-field part ``L_near`` (branches).
-NEAR_NNZ_PER_BRANCH = 120
+NEAR_NNZ_PER_BRANCH = 300
 #: Nonzeros per loop of the kept preconditioner matrix and fill of its sparse LU (loops).
-PRECOND_NNZ_PER_LOOP = 60
-LU_FILL = 12
+PRECOND_NNZ_PER_LOOP = 80
+LU_FILL = 16
 #: Krylov vectors kept by restarted GMRES.
-GMRES_RESTART = 60
+GMRES_RESTART = 60   # solver.krylov.RESTART
 
 
 def estimate_fast_memory(n_branches, n_loops, n_ports=1, n_freqs=1, *, keep_currents=True):
