@@ -162,7 +162,8 @@ def _cmd_inspect(args):
     with _staged(out) as stage:
         info = write_inspect(case.layout, mesh, stage, unit_scale=case.unit_scale, unit=case.unit,
                              title=case.title, ports=case.ports, lumped=case.lumped,
-                             frequencies=case.frequencies, board=case.board)
+                             frequencies=case.frequencies, board=case.board,
+                             method=case.solver.method)
     from copperpath.solver.output.outputs import format_inspect
     print(format_inspect(case, info))
     print(f"wrote {out}/")

@@ -142,13 +142,16 @@ def check_before_meshing(case, frequencies=None, *, solve=True):
         Naming the case, the estimate, the limit and the settings to change.
     """
     from copperpath.solver.solve import memory
+    from copperpath.solver.solve.system import check_memory, choose_method
 
     f = np.asarray(case.frequencies if frequencies is None else frequencies, float)
     est, triangles = memory.before_meshing(case.layout, case.mesh, f_max=float(f.max(initial=0.0)),
                                            ports=max(len(case.ports), 1), freqs=len(f))
     memory.require_mesh(triangles, what=f"{Path(case.path).name}: the mesh")
     if solve:
-        memory.require(est, what=f"{Path(case.path).name}: the dense solve")
+        method = choose_method(case.solver.method, est.branches)
+        check_memory(method, est.branches, est.loops, est.nodes, max(len(case.ports), 1), len(f),
+                     lower_bound=True, what=f"{Path(case.path).name}: the {method} solve")
 
 
 def mesh_warnings(case, mesh):
@@ -215,11 +218,11 @@ def solve(case, frequencies=None, method=None, *, tolerance=None, progress=None,
     say(f"assembling ({mesh.n_triangles} triangles)")
     t = time.perf_counter()
     system = assemble(mesh, case.layout, case.ports, case.lumped, n_freqs=len(freqs),
-                      f_max=float(freqs.max(initial=0.0)))
+                      f_max=float(freqs.max(initial=0.0)), method=method, tolerance=rtol)
     timing["assemble"] = time.perf_counter() - t
     say("solving")
     t = time.perf_counter()
-    result = sweep(system, freqs, title=case.title, progress=progress, method=method, rtol=rtol)
+    result = sweep(system, freqs, title=case.title, progress=progress)
     timing["solve"] = time.perf_counter() - t
     _warn_checks(case, result, rtol)
     from copperpath.solver.output.outputs import case_skin_warnings

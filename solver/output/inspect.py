@@ -19,13 +19,15 @@ from copperpath.solver.output.files import atomic_path
 from copperpath.solver.graph.network import build_network
 from copperpath.solver.output.exports.vtu import write_mesh_vtu
 from copperpath.solver.solve import memory
+from copperpath.solver.solve.fast_memory import estimate_fast_memory
+from copperpath.solver.solve.system import choose_method
 
 SMALL_ANGLE_DEG = 25.0
 """Triangles with a smaller angle are counted (they come from sharp angles of the artwork)."""
 
 
 def write_inspect(layout, mesh, out_dir, *, unit_scale=1e-3, unit="mm", title="", ports=(),
-                  lumped=(), frequencies=(0.0,), board=None):
+                  lumped=(), frequencies=(0.0,), board=None, method="auto"):
     """Write ``inspect.json``, ``<layer>.png`` per layer and ``mesh.vtu`` into ``out_dir``.
 
     Parameters
@@ -56,7 +58,7 @@ def write_inspect(layout, mesh, out_dir, *, unit_scale=1e-3, unit="mm", title=""
     out = Path(out_dir)
     out.mkdir(parents=True, exist_ok=True)
     info = inspect_summary(layout, mesh, ports=ports, title=title, lumped=lumped,
-                           frequencies=frequencies, board=board)
+                           frequencies=frequencies, board=board, method=method)
     for index, name in enumerate(mesh.layer_names):
         _write_atomic(out / f"{_file_stem(name)}.png",
                       lambda tmp, i=index: _plot_layer(layout, mesh, i, tmp, unit_scale=unit_scale,
@@ -67,7 +69,8 @@ def write_inspect(layout, mesh, out_dir, *, unit_scale=1e-3, unit="mm", title=""
     return info
 
 
-def inspect_summary(layout, mesh, *, ports=(), title="", lumped=(), frequencies=(0.0,), board=None):
+def inspect_summary(layout, mesh, *, ports=(), title="", lumped=(), frequencies=(0.0,), board=None,
+                    method="auto"):
     """The content of ``inspect.json`` (SI units).
 
     ``mesh.unknowns`` counts the current unknowns of the solve (edge currents of every
@@ -75,7 +78,9 @@ def inspect_summary(layout, mesh, *, ports=(), title="", lumped=(), frequencies=
     equipotential regions), ``mesh.loops`` the loop currents of the dense solve, and
     ``dense_memory_bytes`` the peak memory of the dense path (:func:`copperpath.solver.solve.memory.estimate`,
     the same estimate ``solve`` checks, sublayer unknowns of the sweep's top frequency and
-    stored currents included), ``available_memory_bytes`` what the process may use and where
+    stored currents included), ``fast_memory_bytes`` that of the fast path
+    (:func:`copperpath.solver.solve.fast_memory.estimate_fast_memory`), ``method`` the path the
+    case's ``[solver] method`` takes, ``available_memory_bytes`` what the process may use and where
     that limit comes from. With ``board`` (:class:`copperpath.geometry.formats.board.BoardContents`)
     the key ``fabrication`` lists what the fabrication files hold (:func:`board_summary`).
     """
@@ -92,6 +97,8 @@ def inspect_summary(layout, mesh, *, ports=(), title="", lumped=(), frequencies=
     est = memory.from_network(network, ports=max(len(ports), 1), freqs=len(freqs))
     unknowns, nodes, loops = network.n_branches, network.n_nodes, est.loops
     free, source = memory.available()
+    method = choose_method(method, unknowns)
+    fast = estimate_fast_memory(unknowns, loops, max(len(ports), 1), len(freqs))
     angles = mesh.angles_deg.min(axis=1) if mesh.n_triangles else np.array([180.0])
     return {
         "title": title,
@@ -111,10 +118,12 @@ def inspect_summary(layout, mesh, *, ports=(), title="", lumped=(), frequencies=
             "small_angle_triangles": int(np.count_nonzero(angles < SMALL_ANGLE_DEG)),
         },
         "dense_memory_bytes": est.solve_bytes,
+        "fast_memory_bytes": fast,
+        "method": method,
         "process_peak_bytes": est.total,
         "available_memory_bytes": int(free),
         "available_memory_source": source,
-        "fits": est.solve_bytes <= memory.USABLE_FRACTION * free,
+        "fits": (est.solve_bytes if method == "dense" else fast) <= memory.USABLE_FRACTION * free,
         **({"fabrication": board_summary(board, layout)} if board is not None else {}),
     }
 

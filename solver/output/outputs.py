@@ -239,7 +239,8 @@ def format_inspect(case, info):
                  f"minimum angle {m['min_angle_deg']:.1f} deg")
     verdict = "fits" if info["fits"] else "does NOT fit: solve would refuse"
     lines.append(f"  dense solve needs about {info['dense_memory_bytes'] / 2**20:.1f} MiB "
-                 f"(process peak {info['process_peak_bytes'] / 2**20:.0f} MiB); "
+                 f"(process peak {info['process_peak_bytes'] / 2**20:.0f} MiB), fast solve about "
+                 f"{info['fast_memory_bytes'] / 2**20:.1f} MiB; [solver] method takes {info['method']}; "
                  f"{info['available_memory_bytes'] / 2**30:.3g} GiB available under "
                  f"{info['available_memory_source']}: {verdict}")
     if "fabrication" in info:

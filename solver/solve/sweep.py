@@ -5,10 +5,11 @@ current-and-potential system ``(R + jwL) I - D^T phi = 0, D I = s`` becomes
 
     C^T Z C x = -C^T Z P,        Z_port = P^T Z (C x + P),
 
-with ``Z = R + jwL``; the potentials drop out because ``D C = 0``. ``C^T L C`` is formed once;
-each frequency is one dense complex-symmetric solve of about a third of the edge count. At
-``f = 0`` the sparse resistive system is solved and the DC-limit inductance ``I^T L I`` is
-reported.
+with ``Z = R + jwL``; the potentials drop out because ``D C = 0``. ``C^T L C`` is formed once on the
+dense path; each frequency is one dense complex-symmetric solve of about a third of the edge
+count. On the fast path ``L`` is an operator and each frequency is a preconditioned GMRES solve
+(:mod:`copperpath.solver.solve.krylov`); nothing forms a dense matrix. At ``f = 0`` the sparse resistive system
+is solved and the DC-limit inductance ``I^T L I`` is reported.
 """
 from __future__ import annotations
 
@@ -20,6 +21,7 @@ import scipy.sparse as sp
 import scipy.sparse.linalg as spla
 
 from copperpath.geometry.errors import InputError
+from copperpath.solver.solve.krylov import KrylovLoopSolver
 from copperpath.solver.solve.result import Result
 
 
@@ -68,56 +70,32 @@ def _real_matmul(A, X):
     return A @ X.real + 1j * (A @ X.imag)
 
 
-def near_preconditioner_pattern(Lc, keep=0.02):
-    """Sparse part of the loop inductance: entries above ``keep`` of the geometric mean of their
-    row's and column's diagonal (the strong, near couplings).
-
-    Returns
-    -------
-    scipy.sparse.csc_matrix
-    """
-    d = np.sqrt(np.abs(np.diag(Lc)))
-    rows, cols = np.nonzero(np.abs(Lc) >= keep * np.outer(d, d))
-    return sp.csc_matrix((Lc[rows, cols], (rows, cols)), shape=Lc.shape)
+def _dense_loop_solve(Rc, Lc, w, b):
+    """Dense LU of ``(Rc + jw Lc) x = b`` (the reference path)."""
+    Zc = Rc.toarray() + 1j * w * Lc
+    return la.solve(Zc, b, assume_a="gen", overwrite_a=True, check_finite=False)
 
 
-class _LoopSolver:
-    """Solves ``(Rc + jw Lc) x = b`` by dense LU (``"dense"``, the reference) or by GMRES with a
-    sparse near-field preconditioner (``"fast"``)."""
+def _resolve_method(system, method):
+    own = getattr(system, "method", "dense")
+    if method in (None, "auto", own):
+        return own
+    if method not in ("dense", "fast"):
+        raise ValueError(f"Invalid method {method!r}, should be one of 'auto', 'dense', 'fast'")
+    raise ValueError(f"the system was assembled for the {own} path; pass method={method!r} to "
+                     f"copperpath.solver.solve.system.assemble")
 
-    def __init__(self, Rc, Lc, method, rtol):
-        self.Rc, self.Lc, self.method, self.rtol = Rc, Lc, method, rtol
-        self.Ln = near_preconditioner_pattern(Lc) if method == "fast" else None
-        self.iterations = []
 
-    def __call__(self, w, b):
-        if self.method == "dense":
-            Zc = self.Rc.toarray() + 1j * w * self.Lc
-            return la.solve(Zc, b, assume_a="gen", overwrite_a=True, check_finite=False)
-        n = self.Lc.shape[0]
-        lu = spla.splu((self.Rc + 1j * w * self.Ln).tocsc().astype(complex))
-        op = spla.LinearOperator((n, n), dtype=complex,
-                                 matvec=lambda v: self.Rc @ v + 1j * w * _real_matmul(self.Lc, v))
-        pre = spla.LinearOperator((n, n), dtype=complex, matvec=lu.solve)
-        x = np.empty(b.shape, complex)
-        for j in range(b.shape[1]):
-            count = [0]
-
-            def tick(_, count=count):
-                count[0] += 1
-
-            x[:, j], info = spla.gmres(op, b[:, j], x0=lu.solve(b[:, j]), rtol=self.rtol,
-                                       atol=0.0, restart=100, maxiter=20, M=pre,
-                                       callback=tick, callback_type="pr_norm")
-            if info != 0:
-                raise RuntimeError(f"GMRES did not reach rtol {self.rtol:g} at "
-                                   f"{w / 2 / np.pi:.4g} Hz after {count[0]} iterations")
-            self.iterations.append(count[0])
-        return x
+def _dc_solve(Rc, bR):
+    try:
+        return -spla.splu(sp.csc_matrix(Rc)).solve(np.asarray(bR, float))
+    except RuntimeError:
+        raise InputError("the resistive system is singular: lumped branches of zero "
+                         "resistance form a closed loop") from None
 
 
 def solve(system, frequencies, *, title="", keep_currents=True, progress=None,
-          method="auto", rtol=1e-8):
+          method=None, rtol=None):
     """Solve the system over a frequency sweep.
 
     Parameters
@@ -130,38 +108,46 @@ def solve(system, frequencies, *, title="", keep_currents=True, progress=None,
         Store branch currents and node potentials for maps (memory ``16 F P (B + nodes)``).
     progress : callable, optional
         Called as ``progress(k, n, f)`` after each frequency.
-    method : {"auto", "dense", "fast"}
-        ``"dense"``: dense LU of the loop system per frequency (the reference);
-        ``"fast"``: GMRES on the stored loop matrices with a sparse near-field
-        preconditioner, to relative residual ``rtol``; ``"auto"``: dense up to 2,500 loops.
-    rtol : float
-        Relative residual of the iterative path.
+    method : {None, "auto", "dense", "fast"}
+        Must agree with the path the system was assembled for (``system.method``), which it
+        follows: ``"dense"``, dense LU of the loop system per frequency (the reference);
+        ``"fast"``, GMRES with the near-field preconditioner (:mod:`copperpath.solver.solve.krylov`).
+    rtol : float, optional
+        Relative residual of GMRES (fast path); default ``system.tolerance``.
 
     Returns
     -------
     copperpath.solver.solve.result.Result
+
+    Notes
+    -----
+    On the fast path the impedance is the stationary form ``Z_ij = I_i^T (R + jwL) I_j`` with
+    ``I = C x + P``: its error is of second order in the GMRES error.
     """
-    if method not in ("auto", "dense", "fast"):
-        raise ValueError(f"Invalid method {method!r}, should be one of 'auto', 'dense', 'fast'")
+    method = _resolve_method(system, method)
+    rtol = float(getattr(system, "tolerance", 1e-4) if rtol is None else rtol)
     f = np.asarray(frequencies, float)
     C = system.basis.loops
     P = system.port_paths
     L, R = system.L, system.R
     n_ports = P.shape[1]
     t = time.perf_counter()
-    CtL = np.asarray(C.T @ L)                      # (n, B)
-    Lc = np.asarray((C.T @ CtL.T).T)               # C^T L C
-    Lc = 0.5 * (Lc + Lc.T)
-    Rc = (C.T @ R @ C).tocsc()
-    bL = np.asarray(CtL @ P)                       # (n, P)
-    del CtL
+    Pd = P.toarray()
+    LP = np.asarray(L @ Pd)                        # L P, (B, P)
+    bL = np.asarray(C.T @ LP)                      # (n, P)
     bR = np.asarray((C.T @ R @ P).todense())
-    LP = np.asarray((P.T @ L).T)                   # L P (L is symmetric)
-    pLp = np.asarray(P.T @ LP)
+    pLp = Pd.T @ LP
     pRp = np.asarray((P.T @ R @ P).todense())
-    if method == "auto":
-        method = "dense" if Lc.shape[0] <= 2500 else "fast"
-    loop_solver = _LoopSolver(Rc, Lc, method, rtol)
+    if method == "dense":
+        CtL = np.asarray(C.T @ L)                  # (n, B)
+        Lc = np.asarray((C.T @ CtL.T).T)           # C^T L C
+        Lc = 0.5 * (Lc + Lc.T)
+        del CtL
+        Rc = (C.T @ R @ C).tocsc()
+        krylov = None
+    else:
+        krylov = KrylovLoopSolver(C, R, L, rtol)
+        Rc = krylov.Rc
     reduce_s = time.perf_counter() - t
 
     Z = np.empty((len(f), n_ports, n_ports), complex)
@@ -169,28 +155,34 @@ def solve(system, frequencies, *, title="", keep_currents=True, progress=None,
     potentials = np.empty((len(f), n_ports, system.network.n_nodes), complex) if keep_currents else None
     dc_inductance = None
     per_freq = []
-    Pd = P.toarray()
     for k, freq in enumerate(f):
         t = time.perf_counter()
         w = 2 * np.pi * freq
         if freq == 0.0:
-            try:
-                x = -spla.splu(Rc).solve(bR)
-            except RuntimeError:
-                raise InputError(_singular_message(system)) from None
+            x = _dc_solve(Rc, bR)
             z = pRp + bR.T @ x
             I = C @ x + Pd
-            dc_inductance = I.T @ (L @ I)
+            LI = L @ I
+            dc_inductance = I.T @ LI
             dc_inductance = 0.5 * (dc_inductance + dc_inductance.T)
+            drop = R @ I
         else:
             b = bR + 1j * w * bL
-            x = -loop_solver(w, b)
-            z = pRp + 1j * w * pLp + b.T @ x
+            if krylov is None:
+                x = -_dense_loop_solve(Rc, Lc, w, b)
+            else:
+                x = -krylov(w, b)
             I = C @ x + Pd
+            drop = None
+            if krylov is not None or keep_currents:
+                drop = R @ I + 1j * w * (L @ I if krylov is not None else _real_matmul(L, I))
+            if krylov is None:
+                z = pRp + 1j * w * pLp + b.T @ x
+            else:
+                z = I.T @ drop                     # stationary: second order in the error
         Z[k] = z
         if keep_currents:
             currents[k] = I.T
-            drop = R @ I + 1j * w * _real_matmul(L, I) if freq > 0 else R @ I
             phi = _potentials(system, drop)
             # Reference: the minus terminal of each driven port at 0 V.
             phi = phi - phi[system.port_nodes[:, 1], np.arange(n_ports)][None, :]
@@ -206,7 +198,8 @@ def solve(system, frequencies, *, title="", keep_currents=True, progress=None,
         "unknowns": {"branches": system.network.n_branches, "nodes": system.network.n_nodes,
                      "loops": system.n_loops},
         "method": method,
-        "gmres_iterations": loop_solver.iterations,
+        "gmres_iterations": krylov.iterations if krylov is not None else [],
+        "gmres_residuals": krylov.residuals if krylov is not None else [],
         "checks": {
             "min_port_resistance_ohm": float(diag.real.min()) if diag.size else None,
             "max_reciprocity_error": float(np.abs(Z - Z.transpose(0, 2, 1)).max()

@@ -1,0 +1,44 @@
+"""Peak memory of the fast path (compressed ``L``, sparse near-field preconditioner, GMRES),
+estimated from the unknown counts before anything is assembled.
+
+The coefficients are measured on four-layer board sections (the pFFT table and the
+preconditioner measurements in DEVELOPERS.md, 6k-66k unknowns) and rounded up; they are not yet
+checked above 66k unknowns.
+"""
+from __future__ import annotations
+
+#: Bytes of the compressed sheet operator per current unknown (grids, near-pair corrections).
+SHEET_BYTES_PER_BRANCH = 5000
+#: Nonzeros per row of the near-field part ``L_near`` (branches).
+NEAR_NNZ_PER_BRANCH = 300
+#: Nonzeros per loop of the kept preconditioner matrix and fill of its sparse LU (loops).
+PRECOND_NNZ_PER_LOOP = 80
+LU_FILL = 16
+#: Krylov vectors kept by restarted GMRES.
+GMRES_RESTART = 60   # copperpath.solver.solve.krylov.RESTART
+
+
+def estimate_fast_memory(n_branches, n_loops, n_ports=1, n_freqs=1, *, keep_currents=True):
+    """Peak bytes of the fast path.
+
+    Parameters
+    ----------
+    n_branches, n_loops, n_ports, n_freqs : int
+    keep_currents : bool
+        Whether branch currents and node potentials are stored for every frequency.
+
+    Returns
+    -------
+    int
+        Sheet operator, the near-field part (real csr, 12 B per entry), the loop preconditioner
+        and its complex LU (24 B per entry), the GMRES basis (16 B per vector entry), a few
+        complex work vectors per port and the stored currents (16 F P B, twice with potentials).
+    """
+    b, n, p = int(n_branches), int(n_loops), max(int(n_ports), 1)
+    sheet = SHEET_BYTES_PER_BRANCH * b
+    near = 12 * NEAR_NNZ_PER_BRANCH * b
+    precond = 12 * PRECOND_NNZ_PER_LOOP * n + 24 * LU_FILL * PRECOND_NNZ_PER_LOOP * n
+    krylov = 16 * (GMRES_RESTART + 4) * n
+    work = 16 * 6 * p * b
+    stored = 16 * 2 * n_freqs * p * b if keep_currents else 0
+    return int(sheet + near + precond + krylov + work + stored)
