@@ -1,4 +1,4 @@
-"""Length units of case files and their size in metres.
+"""Length units of case files and their size in metres, and how a frequency is shown.
 
 A case file states its unit once (``units = "mil"``); the reader converts every length
 to metres with :func:`to_si` and keeps the unit only to show numbers back to the user.
@@ -8,6 +8,23 @@ from __future__ import annotations
 from decimal import Decimal
 
 import numpy as np
+
+def format_frequency(f, sep=" "):
+    """``0 -> "DC"``, ``1e6 -> "1 MHz"``, ``2.5e3 -> "2.5 kHz"`` (three significant digits).
+
+    Examples
+    --------
+    >>> format_frequency(1e6), format_frequency(0), format_frequency(2.5e3, sep="")
+    ('1 MHz', 'DC', '2.5kHz')
+    """
+    if f == 0:
+        return "DC"
+    for scale, prefix in ((1e9, "G"), (1e6, "M"), (1e3, "k"), (1.0, "")):
+        if abs(f) >= scale:
+            return f"{f / scale:.3g}{sep}{prefix}Hz"
+    return f"{f:.3g}{sep}Hz"
+
+
 
 #: Metres per unit. ``mil`` is a thousandth of an inch; the inch is exactly 25.4 mm
 #: (international yard and pound agreement, 1959).

@@ -23,7 +23,8 @@ import math
 
 import numpy as np
 
-from copperpath.geometry.physics import MU0
+from copperpath.geometry.physics import MU0, skin_depth
+from copperpath.geometry.units import format_frequency
 
 RESOLVED_OUTER = 1.0
 """Outer sublayer thickness, in skin depths, up to which skin effect counts as resolved."""
@@ -33,33 +34,6 @@ AUTO_UNKNOWN_BUDGET = 20_000
 """Current unknowns that ``"auto"`` sublayers may raise a mesh to (dense L: about 3.2 GB)."""
 WARN_THICKNESS = 2.0
 """An unresolved layer thicker than this many skin depths at a solved frequency is warned about."""
-
-
-def hertz(f):
-    """``1.5e8 -> "150 MHz"`` (3 significant figures).
-
-    Examples
-    --------
-    >>> hertz(5.7e7), hertz(2e3), hertz(0.0)
-    ('57 MHz', '2 kHz', '0 Hz')
-    """
-    for scale, prefix in ((1e9, "G"), (1e6, "M"), (1e3, "k")):
-        if f >= scale:
-            return f"{f / scale:.3g} {prefix}Hz"
-    return f"{f:.3g} Hz"
-
-
-def skin_depth(frequency, conductivity):
-    """Skin depth ``1 / sqrt(pi f mu0 sigma)`` in metres (``inf`` at DC).
-
-    Examples
-    --------
-    >>> round(float(skin_depth(1e8, 5.8e7)) * 1e6, 2)   # copper at 100 MHz, um
-    6.61
-    """
-    f = np.asarray(frequency, float)
-    with np.errstate(divide="ignore"):
-        return 1.0 / np.sqrt(np.pi * f * MU0 * conductivity)
 
 
 def sublayer_bounds(n):
@@ -190,6 +164,6 @@ def skin_warnings(layers, n_sub, frequencies, *, source=""):
         what = f"its {n} sublayers ({why}) resolve" if n > 1 else f"its one sublayer ({why}) resolves"
         out.append(f"{prefix}layer '{layer.name}': {layer.thickness * 1e6:.3g} um copper is "
                    f"{layer.thickness / float(skin_depth(f, layer.conductivity)):.1f} skin depths "
-                   f"thick at {hertz(f)} but {what} skin effect only up to {hertz(f_res)}: there "
+                   f"thick at {format_frequency(f)} but {what} skin effect only up to {format_frequency(f_res)}: there "
                    f"and above, R reads low and L high; sublayers = {need} would resolve it")
     return out

@@ -6,7 +6,8 @@ import html
 import math
 import os
 
-from copperpath.solver.output.formatting import format_frequency, table
+from copperpath.geometry.units import format_frequency
+from copperpath.solver.output.formatting import table
 
 
 def _num(value, scale, fmt):

@@ -1,5 +1,5 @@
-"""How numbers, frequencies and tables are shown: the one formatter of the package's text,
-terminal tables and reports."""
+"""How numbers and tables are shown in the terminal tables and reports (frequencies:
+:func:`copperpath.geometry.units.format_frequency`)."""
 from __future__ import annotations
 
 import html
@@ -23,22 +23,6 @@ def engineering(value, unit, digits=4):
         if abs(value) < 1000 * scale:
             return f"{value / scale:.{digits}g} {prefix}{unit}"
     return f"{value:.{digits}g} {unit}"
-
-
-def format_frequency(f, sep=" "):
-    """``0 -> "DC"``, ``1e6 -> "1 MHz"``, ``2.5e3 -> "2.5 kHz"`` (three significant digits).
-
-    Examples
-    --------
-    >>> format_frequency(1e6), format_frequency(0), format_frequency(2.5e3, sep="")
-    ('1 MHz', 'DC', '2.5kHz')
-    """
-    if f == 0:
-        return "DC"
-    for scale, prefix in ((1e9, "G"), (1e6, "M"), (1e3, "k"), (1.0, "")):
-        if abs(f) >= scale:
-            return f"{f / scale:.3g}{sep}{prefix}Hz"
-    return f"{f:.3g}{sep}Hz"
 
 
 def table(head, rows, left=1):

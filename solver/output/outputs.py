@@ -13,7 +13,8 @@ from copperpath.solver.output.exports.vtu import write_vtu
 from copperpath.solver.solve.finite import require_finite
 from copperpath.solver.output.maps import map_frequencies, write_maps
 from copperpath.solver.graph.skin import skin_rows, skin_warnings
-from copperpath.solver.output.formatting import engineering, format_frequency
+from copperpath.geometry.units import format_frequency
+from copperpath.solver.output.formatting import engineering
 from copperpath.solver.output.report import write_report
 
 

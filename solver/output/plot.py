@@ -20,7 +20,7 @@ import numpy as np
 
 from copperpath.solver.analysis import post
 from copperpath.solver.output.files import atomic_path
-from copperpath.solver.output.formatting import format_frequency
+from copperpath.geometry.units import format_frequency
 
 CMAPS = {"current": "magma", "inductance": "berlin", "loss": "inferno", "potential": "viridis"}
 """Colour map of each kind of map (matplotlib names; all perceptually uniform; ``berlin`` is a

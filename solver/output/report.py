@@ -17,7 +17,8 @@ from pathlib import Path
 
 
 from copperpath.solver.output.files import write_text
-from copperpath.solver.output.formatting import engineering, format_frequency, table
+from copperpath.geometry.units import format_frequency
+from copperpath.solver.output.formatting import engineering, table
 
 CAUTION = (
     "copperpath estimates the resistance and inductance of copper from a quasi-static field "

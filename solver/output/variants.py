@@ -15,7 +15,8 @@ from pathlib import Path
 import numpy as np
 
 from copperpath.solver.analysis import post
-from copperpath.solver.output.formatting import engineering, format_frequency, table
+from copperpath.geometry.units import format_frequency
+from copperpath.solver.output.formatting import engineering, table
 from copperpath.solver.output.maps import map_frequencies, rank_bottlenecks, safe_name
 from copperpath.solver.output.plot import side_by_side_map
 

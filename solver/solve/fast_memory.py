@@ -7,6 +7,8 @@ checked above 66k unknowns.
 """
 from __future__ import annotations
 
+from copperpath.solver.solve.krylov import RESTART
+
 #: Bytes of the compressed sheet operator per current unknown (grids, near-pair corrections).
 SHEET_BYTES_PER_BRANCH = 5000
 #: Nonzeros per row of the near-field part ``L_near`` (branches).
@@ -14,8 +16,6 @@ NEAR_NNZ_PER_BRANCH = 300
 #: Nonzeros per loop of the kept preconditioner matrix and fill of its sparse LU (loops).
 PRECOND_NNZ_PER_LOOP = 80
 LU_FILL = 16
-#: Krylov vectors kept by restarted GMRES.
-GMRES_RESTART = 60   # copperpath.solver.solve.krylov.RESTART
 
 
 def estimate_fast_memory(n_branches, n_loops, n_ports=1, n_freqs=1, *, keep_currents=True):
@@ -38,7 +38,7 @@ def estimate_fast_memory(n_branches, n_loops, n_ports=1, n_freqs=1, *, keep_curr
     sheet = SHEET_BYTES_PER_BRANCH * b
     near = 12 * NEAR_NNZ_PER_BRANCH * b
     precond = 12 * PRECOND_NNZ_PER_LOOP * n + 24 * LU_FILL * PRECOND_NNZ_PER_LOOP * n
-    krylov = 16 * (GMRES_RESTART + 4) * n
+    krylov = 16 * (RESTART + 4) * n
     work = 16 * 6 * p * b
     stored = 16 * 2 * n_freqs * p * b if keep_currents else 0
     return int(sheet + near + precond + krylov + work + stored)
