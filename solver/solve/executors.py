@@ -133,8 +133,15 @@ def _dask_executor(address, workers):
         raise InputError(f"--scheduler {address}: Dask is not installed; install it with "
                          f"`pip install \"copperpath[cluster]\"` (dask[distributed])") from None
     if address == "local":
-        cluster = LocalCluster(n_workers=int(workers or 2), threads_per_worker=1, processes=True,
-                               dashboard_address=":0")
+        import dask
+
+        # Dask's nanny pins BLAS to one thread in each worker; a different thread count changes
+        # the last bits of the dense LU, so the workers keep this process's BLAS threads.
+        threads = {k: os.environ.get(k, str(os.cpu_count() or 1))
+                   for k in ("OMP_NUM_THREADS", "MKL_NUM_THREADS", "OPENBLAS_NUM_THREADS")}
+        with dask.config.set({"distributed.nanny.pre-spawn-environ": threads}):
+            cluster = LocalCluster(n_workers=int(workers or 2), threads_per_worker=1,
+                                   processes=True, dashboard_address=":0")
         return DaskExecutor(Client(cluster), cluster, address)
     try:
         client = Client(address, timeout=20)
