@@ -102,7 +102,16 @@ def _out_dir(args, case_path):
     return Path(args.out) if args.out else Path("out") / Path(case_path).stem
 
 
-def run_case(case, out, *, freqs=None, quiet=False, write=True):
+def _announce(run):
+    """Print the plan of a split sweep: where it runs and the memory per task."""
+    print(f"parallel: {run['tasks']} tasks of up to {run['points_per_task']} frequencies "
+          f"{run['where']}; memory per task about {run['memory_per_task_bytes'] / 2**20:.0f} MiB "
+          f"plus {run['shared_system_bytes'] / 2**20:.0f} MiB of the shared system per worker"
+          + (f"; {run['points_resumed']} points resumed" if run["points_resumed"] else ""),
+          flush=True)
+
+
+def run_case(case, out, *, freqs=None, quiet=False, write=True, scale=None):
     """Solve one case through the API and write its outputs to ``out``.
 
     Returns
@@ -115,7 +124,8 @@ def run_case(case, out, *, freqs=None, quiet=False, write=True):
     say = _stage(None if quiet else label)
     with _printed_warnings():
         solution = copperpath.solve(case, frequencies=freqs or None, stage=say,
-                                    progress=None if quiet else _progress(label))
+                                    progress=None if quiet else _progress(label),
+                                    **(dict(scale, announce=_announce) if scale else {}))
     say("writing maps, exports and report")
     summary = solution.write(out) if write else None
     say(None)
@@ -141,8 +151,16 @@ def _cmd_solve(args):
         raise InputError(f"--freq: frequencies must be finite and >= 0 Hz, got {args.freq}")
     case = _load(args.case)
     out = _out_dir(args, args.case)
+    scale = None
+    if args.workers is not None or args.scheduler is not None or args.resume:
+        scale = {"workers": args.workers, "scheduler": args.scheduler, "checkpoint": out,
+                 "resume": args.resume}
     with _staged(out) as stage:
-        solution, summary = run_case(case, stage, freqs=sorted(set(args.freq or [])))
+        solution, summary = run_case(case, stage, freqs=sorted(set(args.freq or [])), scale=scale)
+    if scale:
+        from copperpath.scaleout import finish_checkpoint
+
+        finish_checkpoint(solution.result)
     print(format_table(case, solution.result, summary))
     print(f"wrote {out}/")
     return 0
@@ -170,7 +188,19 @@ def _cmd_inspect(args):
     return 0
 
 
-def compare_cases(case_paths, out, *, port=None, quiet=False):
+def _variant_progress():
+    """Progress over finished variants on a terminal (quiet when piped)."""
+    if not sys.stderr.isatty():
+        return None
+
+    def show(k, n, name):
+        sys.stderr.write(f"\r\033[Kvariants {k}/{n} done ({name})" + ("\n" if k == n else ""))
+        sys.stderr.flush()
+
+    return show
+
+
+def compare_cases(case_paths, out, *, port=None, quiet=False, workers=None, scheduler=None):
     """Solve each case into ``out/<case name>/`` and compare them; returns the comparison.
 
     Of each solved variant only what the comparison shows is kept (:class:`VariantView`); its
@@ -190,7 +220,18 @@ def compare_cases(case_paths, out, *, port=None, quiet=False):
     for case in cases:                          # so is a variant too large for the machine
         copperpath.study.check_before_meshing(case)
     views, triples = [], []
-    for case in cases:
+    if workers is not None or scheduler is not None:
+        from copperpath.scaleout import solve_variants
+
+        solved = solve_variants(cases, outs=[Path(out) / Path(c.path).stem for c in cases],
+                                port=port, workers=workers, scheduler=scheduler,
+                                progress=_variant_progress())
+        for case, (view, summary, lines) in zip(cases, solved):
+            for line in lines + list(summary.get("warnings", ())):
+                print(f"warning: {Path(case.path).name}: {line}", file=sys.stderr)
+            views.append(view)
+            triples.append((view.case, view.result, summary))
+    for case in (cases if not views else ()):
         if not quiet:
             print(f"solving {Path(case.path).name} ...", flush=True)
         solution, summary = run_case(case, Path(out) / Path(case.path).stem, quiet=quiet)
@@ -214,7 +255,8 @@ def compare_cases(case_paths, out, *, port=None, quiet=False):
 def _cmd_compare(args):
     out = Path(args.out) if args.out else Path("out") / "compare"
     with _staged(out) as stage:
-        _, text = compare_cases(args.cases, stage, port=args.port)
+        _, text = compare_cases(args.cases, stage, port=args.port, workers=args.workers,
+                                scheduler=args.scheduler)
     print(text)
     print(f"wrote {out}/report.html (each variant's own outputs in its folder)")
     return 0
@@ -246,6 +288,13 @@ def _cmd_demo(args):
     return 0
 
 
+def _scale_options(p):
+    p.add_argument("--workers", type=int, default=None, metavar="N",
+                   help="solve frequencies (solve) or variants (compare) in N processes")
+    p.add_argument("--scheduler", metavar="ADDRESS",
+                   help="run the tasks on a Dask cluster: its scheduler address, or 'local'")
+
+
 def build_parser():
     """The argument parser of the ``copperpath`` command."""
     parser = argparse.ArgumentParser(
@@ -260,6 +309,9 @@ def build_parser():
     p.add_argument("--freq", type=parse_frequency, nargs="+", metavar="F",
                    help="frequencies (replace the sweep): Hz, or with a prefix such as 1MHz or 250k")
     p.add_argument("--jobs", type=int, default=None, metavar="N", help="worker threads (default: all cores)")
+    _scale_options(p)
+    p.add_argument("--resume", action="store_true",
+                   help="continue an interrupted run of the same case and settings from its checkpoint")
     p.set_defaults(func=_cmd_solve)
     p = sub.add_parser("inspect", help="check geometry, connectivity and mesh; pictures and size estimate")
     p.add_argument("case", help="case file (TOML)")
@@ -269,6 +321,7 @@ def build_parser():
     p.add_argument("cases", nargs="+", metavar="CASE", help="case files; the first is the reference")
     p.add_argument("--port", help="port to compare (default: the first case's [circuit] port or first port)")
     p.add_argument("--out", help="output folder (default: out/compare)")
+    _scale_options(p)
     p.set_defaults(func=_cmd_compare)
     p = sub.add_parser("demo", help="the bundled buck-converter scenario: solve, compare, report")
     p.add_argument("--out", help="output folder (default: out/demo)")

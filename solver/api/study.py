@@ -163,7 +163,8 @@ def mesh_warnings(case, mesh):
         warnings.warn(line, CopperpathWarning, stacklevel=2)
 
 
-def solve(case, frequencies=None, method=None, *, tolerance=None, progress=None, stage=None):
+def solve(case, frequencies=None, method=None, *, tolerance=None, progress=None, stage=None,
+          workers=None, scheduler=None, checkpoint=None, resume=False, announce=None):
     """Mesh, assemble and solve a case over its sweep.
 
     Parameters
@@ -180,10 +181,26 @@ def solve(case, frequencies=None, method=None, *, tolerance=None, progress=None,
         ``progress(k, n, f)`` after each frequency.
     stage : callable, optional
         ``stage(text)`` at the start of each stage (meshing, assembling, solving).
+    workers : int, optional
+        Solve the frequency points in this many processes of this machine (the system is
+        assembled once and shared); with ``scheduler="local"`` the number of Dask workers.
+    scheduler : str, optional
+        ``"local"`` (a Dask LocalCluster) or a Dask scheduler address: the frequency points
+        as tasks there, the system scattered once to every worker.
+    checkpoint : str or os.PathLike, optional
+        The output folder: every solved point is kept in a checkpoint folder beside it
+        (:mod:`copperpath.scaleout`), which the caller removes after writing the outputs
+        (:func:`copperpath.scaleout.finish_checkpoint`).
+    resume : bool
+        Reuse the points of that checkpoint (same case file content and settings only).
+    announce : callable, optional
+        ``announce(run)`` with the plan of a split sweep (tasks, workers, memory per task).
 
     Returns
     -------
     Solution
+        With ``workers``, ``scheduler`` or ``checkpoint`` the same numbers as without;
+        ``result.info["parallel"]`` says how the sweep ran.
 
     Raises
     ------
@@ -222,7 +239,14 @@ def solve(case, frequencies=None, method=None, *, tolerance=None, progress=None,
     timing["assemble"] = time.perf_counter() - t
     say("solving")
     t = time.perf_counter()
-    result = sweep(system, freqs, title=case.title, progress=progress)
+    if workers is None and scheduler is None and checkpoint is None:
+        result = sweep(system, freqs, title=case.title, progress=progress)
+    else:
+        from copperpath.scaleout import sweep_in_tasks
+
+        result = sweep_in_tasks(case, system, freqs, workers=workers, scheduler=scheduler,
+                                checkpoint=checkpoint, resume=resume, method=system.method,
+                                tolerance=rtol, progress=progress, announce=announce)
     timing["solve"] = time.perf_counter() - t
     _warn_checks(case, result, rtol)
     from copperpath.solver.output.outputs import case_skin_warnings
@@ -258,7 +282,7 @@ def _warn_checks(case, result, rtol):
                       f"(relative); lower [solver] tolerance", CopperpathWarning, stacklevel=3)
 
 
-def compare(cases, port=None, frequencies=None):
+def compare(cases, port=None, frequencies=None, *, workers=None, scheduler=None):
     """Compare layout variants on one port: R and L side by side, the change against the first
     case, circuit estimates, and which variant has the lowest loop inductance.
 
@@ -271,6 +295,9 @@ def compare(cases, port=None, frequencies=None):
         Default: the first case's ``[circuit]`` port, else its first port.
     frequencies : sequence of float, optional
         Hz to compare at; each must have been swept by every case.
+    workers, scheduler : optional
+        Solve the cases that are not yet solved as parallel tasks, one variant per task
+        (processes of this machine, or a Dask scheduler / ``"local"``; see :func:`solve`).
 
     Returns
     -------
@@ -283,6 +310,23 @@ def compare(cases, port=None, frequencies=None):
     items = [c if isinstance(c, (Solution, Case)) else load_case(c) for c in cases]
     port = resolve_port([s.case if isinstance(s, Solution) else s for s in items], port)
     triples = []
+    if workers is not None or scheduler is not None:
+        from copperpath.scaleout import solve_variants
+
+        todo = [k for k, item in enumerate(items) if not isinstance(item, Solution)]
+        solved = dict(zip(todo, solve_variants([items[k] for k in todo], workers=workers,
+                                               scheduler=scheduler)))
+        for k, item in enumerate(items):
+            if k in solved:
+                (case, result), summary, lines = solved[k]
+                for line in lines:
+                    warnings.warn(line, CopperpathWarning, stacklevel=2)
+                triples.append((case, result, summary))
+                continue
+            summary = result_dict(item.result, mesh_stats=mesh_stats(item.mesh, item.system),
+                                  timing=item.timing)
+            triples.append((item.case, item.result, summary))
+        return _compare(triples, port=port, frequencies=frequencies)
     for item in items:
         sol = item if isinstance(item, Solution) else solve(item)
         summary = result_dict(sol.result, mesh_stats=mesh_stats(sol.mesh, sol.system),
