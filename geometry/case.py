@@ -48,15 +48,15 @@ from __future__ import annotations
 import difflib
 import math
 import tomllib
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from pathlib import Path
 
 import numpy as np
 import shapely
 
-from copperpath.geometry import shapes
+from copperpath.geometry import shapes, unit_check
 from copperpath.geometry.connectivity import bodies, floating_islands
-from copperpath.geometry.errors import input_error
+from copperpath.geometry.errors import InputError, input_error
 from copperpath.geometry.formats import board
 from copperpath.geometry.formats import read_artwork as read_gerber
 from copperpath.geometry.formats import read_drills
@@ -980,6 +980,30 @@ def load_case(path, *, read_artwork=None):
     """
     path = Path(path)
     doc = _load_doc(path)
+    hint = _units_hint(doc)
+    try:
+        case = _build_case(path, doc, read_artwork)
+    except InputError as exc:
+        if hint:
+            raise InputError(f"{exc}; {hint}") from None
+        raise
+    if hint:
+        case = replace(case, warnings=case.warnings + (f"{path}: {hint}",))
+    return case
+
+
+def _units_hint(doc):
+    """:func:`copperpath.geometry.unit_check.suspicion` for the merged items (file units)."""
+    arrays, unit = doc["arrays"], doc["unit"]
+    to_main = lambda it: unit_scale(it.unit) / unit_scale(unit)  # noqa: E731
+    thick = [x * to_main(it) for it in arrays["layer"] for x in unit_check.raw_sizes([it.data], [])[0]]
+    shapes_ = [it for table in ("copper", "terminal", "via") for it in arrays[table]]
+    _, span = unit_check.raw_sizes([], [it.data for it in shapes_ if it.unit == unit])
+    return unit_check.suspicion(unit, thick, span)
+
+
+def _build_case(path, doc, read_artwork):
+    """The body of :func:`load_case` after the files are read and merged."""
     arrays, singles = doc["arrays"], doc["singles"]
     for items in arrays.values():
         _check_unique(items)
