@@ -36,7 +36,7 @@ def test_markers_are_the_table_of_their_frequency(tmp_path, neck, monkeypatch):
         rows = table[m.group(1)]
         s = case.unit_scale
         assert [n for n, *_ in marks] == [b["rank"] for b in rows]
-        for (n, x, y, layers), b in zip(marks, rows):
+        for (_, x, y, layers), b in zip(marks, rows):
             assert (x / s, y / s) == pytest.approx((b["x"], b["y"]), abs=1e-12)
             assert list(layers) == b["layers"] and b["frequency_hz"] == (0.0 if m.group(1) == "DC" else 1e8)
         checked += 1

@@ -50,7 +50,7 @@ minus = "b"
 
 def _write(tmp_path, unit, k):
     """The same 40 mm strip over a plane, its numbers written ``k`` times too large for ``unit``."""
-    mm = dict(z1=0.235, t=0.035, length=40, width=1, via=39, half=0.5, drill=0.3)
+    mm = {"z1": 0.235, "t": 0.035, "length": 40, "width": 1, "via": 39, "half": 0.5, "drill": 0.3}
     path = tmp_path / "strip.toml"
     path.write_text(STRIP.format(unit=unit, **{key: v * k for key, v in mm.items()}), encoding="utf-8")
     return path
