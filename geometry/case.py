@@ -48,15 +48,15 @@ from __future__ import annotations
 import difflib
 import math
 import tomllib
-from dataclasses import dataclass
+from dataclasses import dataclass, replace
 from pathlib import Path
 
 import numpy as np
 import shapely
 
-from copperpath.geometry import shapes
+from copperpath.geometry import shapes, unit_check
 from copperpath.geometry.connectivity import bodies, floating_islands
-from copperpath.geometry.errors import input_error
+from copperpath.geometry.errors import InputError, input_error
 from copperpath.geometry.formats import board
 from copperpath.geometry.formats import read_artwork as read_gerber
 from copperpath.geometry.formats import read_drills
@@ -75,6 +75,28 @@ from copperpath.geometry.units import UNITS, to_si, unit_scale
 ARRAY_TABLES = ("layer", "copper", "via", "drill", "terminal", "port", "lumped")
 SINGLE_TABLES = ("sweep", "mesh", "window", "solver", "circuit", "fabrication")
 TOP_KEYS = ("title", "units", "extends") + ARRAY_TABLES + SINGLE_TABLES
+#: The keys each table accepts (``remove`` is also accepted in array tables of a variant).
+TABLE_KEYS = {
+    "layer": ("name", "z", "thickness", "conductivity", "sublayers", "artwork"),
+    "copper": ("name", "layer", "rect", "polygon", "holes", "circle", "trace", "clear"),
+    "via": ("name", "at", "drill", "plating", "pad", "layers", "array"),
+    "drill": ("name", "file", "layers", "plating"),
+    "terminal": ("name", "layer", "rect", "circle", "polygon", "holes", "pad"),
+    "port": ("name", "plus", "minus"),
+    "lumped": ("name", "between", "resistance", "inductance"),
+    "sweep": ("frequencies", "start", "stop", "points"),
+    "mesh": ("max_edge", "min_edge"),
+    "window": ("rect",),
+    "solver": ("method", "tolerance"),
+    "circuit": ("port", "di_dt", "current", "rise_time", "output_capacitance", "input_voltage"),
+    "fabrication": ("source", "nets", "others", "stackup"),
+}
+#: The keys of the inline tables ``circle``, ``trace`` and ``array`` (all required).
+INLINE_KEYS = {
+    "circle": ("center", "radius"),
+    "trace": ("path", "width"),
+    "array": ("pitch", "count"),
+}
 
 #: Default barrel plating in metres (see the module docstring).
 DEFAULT_PLATING = 25e-6
@@ -392,7 +414,7 @@ def _check_unique(items):
 
 # ----------------------------------------------------------------------------- tables
 def _layer(item):
-    f = _Fields(item, ("name", "z", "thickness", "conductivity", "sublayers", "artwork"))
+    f = _Fields(item, TABLE_KEYS["layer"])
     sub = f.raw("sublayers", "auto")
     if sub != "auto" and not (isinstance(sub, int) and not isinstance(sub, bool) and 1 <= sub <= MAX_SUBLAYERS):
         raise f.fail(f"'sublayers' must be an integer >= 1 or \"auto\", got {_show(sub)} "
@@ -442,13 +464,13 @@ def _shape(f, keys):
             raise f.fail(f"'polygon' {problem}")
         return shapes.polygon(s(shell), [s(h) for h in holes])
     if kind == "circle":
-        c = f.inline("circle", ("center", "radius"))
+        c = f.inline("circle", INLINE_KEYS["circle"])
         center = f.numbers("circle.center", c["center"], 2)
         if not (_is_number(c["radius"]) and c["radius"] > 0):
             raise f.fail(f"'circle' radius must be a positive length, got {_show(c['radius'])}")
         f.check_size("circle.radius", s(c["radius"]), c["radius"])
         return shapes.circle((s(center[0]), s(center[1])), s(c["radius"]))
-    t = f.inline("trace", ("path", "width"))
+    t = f.inline("trace", INLINE_KEYS["trace"])
     path = f.points("trace.path", t["path"], 2)
     if not (_is_number(t["width"]) and t["width"] > 0):
         raise f.fail(f"'trace' width must be a positive length, got {_show(t['width'])}")
@@ -467,7 +489,7 @@ def _layer_name(f, key, names):
 
 
 def _copper(item, names):
-    f = _Fields(item, ("name", "layer", "rect", "polygon", "holes", "circle", "trace", "clear"))
+    f = _Fields(item, TABLE_KEYS["copper"])
     layer = _layer_name(f, "layer", names)
     return CopperShape(layer, _shape(f, ("rect", "polygon", "circle", "trace")), f.boolean("clear", False))
 
@@ -487,7 +509,7 @@ def _span(f, layers):
 
 
 def _vias(item, layers):
-    f = _Fields(item, ("name", "at", "drill", "plating", "pad", "layers", "array"))
+    f = _Fields(item, TABLE_KEYS["via"])
     x, y = f.numbers("at", f.raw("at"), 2)
     drill = f.length("drill", positive=True)
     pad = f.length("pad", drill + DEFAULT_ANNULUS, positive=True)
@@ -498,7 +520,7 @@ def _vias(item, layers):
               span=_span(f, layers))
     if "array" not in f.data:
         return (via,)
-    a = f.inline("array", ("pitch", "count"))
+    a = f.inline("array", INLINE_KEYS["array"])
     pitch = f.numbers("array.pitch", a["pitch"], 2)
     count = a["count"]
     if not (isinstance(count, list) and len(count) == 2
@@ -517,7 +539,7 @@ def _vias(item, layers):
 
 
 def _drill(item, layers):
-    f = _Fields(item, ("name", "file", "layers", "plating"))
+    f = _Fields(item, TABLE_KEYS["drill"])
     return {"name": item.name, "file": f.path("file"),
             "span": _span(f, layers) if "layers" in f.data else None,
             "plating": f.ranged("plating", DEFAULT_PLATING, "a positive length", length=True)}
@@ -561,7 +583,7 @@ class _Pads:
 
 
 def _terminal(item, names, pads):
-    f = _Fields(item, ("name", "layer", "rect", "circle", "polygon", "holes", "pad"))
+    f = _Fields(item, TABLE_KEYS["terminal"])
     if "pad" in f.data:
         drawn = [k for k in ("rect", "circle", "polygon", "holes") if k in f.data]
         if drawn:
@@ -600,7 +622,7 @@ def _terminal_name(f, key, value, terminals, pads):
 
 
 def _port(item, terminals, pads):
-    f = _Fields(item, ("name", "plus", "minus"))
+    f = _Fields(item, TABLE_KEYS["port"])
     plus = _terminal_name(f, "plus", f.raw("plus"), terminals, pads)
     minus = _terminal_name(f, "minus", f.raw("minus"), terminals, pads)
     if plus == minus:
@@ -609,7 +631,7 @@ def _port(item, terminals, pads):
 
 
 def _lumped(item, terminals, pads):
-    f = _Fields(item, ("name", "between", "resistance", "inductance"))
+    f = _Fields(item, TABLE_KEYS["lumped"])
     between = f.raw("between")
     if not (isinstance(between, list) and len(between) == 2):
         raise f.fail(f"'between' must be a list of two terminal names, got {_show(between)}")
@@ -633,7 +655,7 @@ def _bounded(f, key, what, range_key=None, default=0.0):
 def _sweep(item):
     if item is None:
         return np.array([0.0])
-    f = _Fields(item, ("frequencies", "start", "stop", "points"))
+    f = _Fields(item, TABLE_KEYS["sweep"])
     ranged = [k for k in ("start", "stop", "points") if k in f.data]
     if "frequencies" in f.data and ranged:
         raise f.fail("give either 'frequencies' or 'start', 'stop' and 'points', not both")
@@ -661,7 +683,7 @@ def _mesh(item, default):
     """``[mesh]``; a missing key (or table) takes the size chosen from the geometry."""
     if item is None:
         return default
-    f = _Fields(item, ("max_edge", "min_edge"))
+    f = _Fields(item, TABLE_KEYS["mesh"])
     max_edge = f.length("max_edge", max(default.max_edge, f.length("min_edge", 0.0)), positive=True)
     min_edge = f.length("min_edge", min(default.min_edge, max_edge), positive=True)
     if min_edge > max_edge:
@@ -674,7 +696,7 @@ def _mesh(item, default):
 def _window(item):
     if item is None:
         return None
-    f = _Fields(item, ("rect",))
+    f = _Fields(item, TABLE_KEYS["window"])
     x0, y0, x1, y1 = f.numbers("rect", f.raw("rect"), 4)
     if not (x0 < x1 and y0 < y1):
         raise f.fail(f"'rect' must be [x0, y0, x1, y1] with x0 < x1 and y0 < y1 (lower left, then "
@@ -688,7 +710,7 @@ def _window(item):
 def _solver(item):
     if item is None:
         return SolverOptions()
-    f = _Fields(item, ("method", "tolerance"))
+    f = _Fields(item, TABLE_KEYS["solver"])
     tol = f.number("tolerance", SolverOptions().tolerance, lower=0, what="a number between 0 and 1")
     if tol >= 1:
         raise f.fail(f"'tolerance' must be a number between 0 and 1, got {_show(tol)}")
@@ -698,7 +720,7 @@ def _solver(item):
 def _circuit(item, ports):
     if item is None:
         return None
-    f = _Fields(item, ("port", "di_dt", "current", "rise_time", "output_capacitance", "input_voltage"))
+    f = _Fields(item, TABLE_KEYS["circuit"])
     names = [p.name for p in ports]
     if "port" in f.data:
         port = f.string("port")
@@ -730,7 +752,7 @@ def _fabrication(item):
     """``[fabrication]`` as a dict: source (Path), nets (tuple or None), others, stackup."""
     if item is None:
         return None
-    f = _Fields(item, ("source", "nets", "others", "stackup"))
+    f = _Fields(item, TABLE_KEYS["fabrication"])
     nets = f.raw("nets", None)
     if nets is not None:
         if not (isinstance(nets, list) and nets and all(isinstance(n, str) for n in nets)):
@@ -958,6 +980,30 @@ def load_case(path, *, read_artwork=None):
     """
     path = Path(path)
     doc = _load_doc(path)
+    hint = _units_hint(doc)
+    try:
+        case = _build_case(path, doc, read_artwork)
+    except InputError as exc:
+        if hint:
+            raise InputError(f"{exc}; {hint}") from None
+        raise
+    if hint:
+        case = replace(case, warnings=case.warnings + (f"{path}: {hint}",))
+    return case
+
+
+def _units_hint(doc):
+    """:func:`copperpath.geometry.unit_check.suspicion` for the merged items (file units)."""
+    arrays, unit = doc["arrays"], doc["unit"]
+    to_main = lambda it: unit_scale(it.unit) / unit_scale(unit)  # noqa: E731
+    thick = [x * to_main(it) for it in arrays["layer"] for x in unit_check.raw_sizes([it.data], [])[0]]
+    shapes_ = [it for table in ("copper", "terminal", "via") for it in arrays[table]]
+    _, span = unit_check.raw_sizes([], [it.data for it in shapes_ if it.unit == unit])
+    return unit_check.suspicion(unit, thick, span)
+
+
+def _build_case(path, doc, read_artwork):
+    """The body of :func:`load_case` after the files are read and merged."""
     arrays, singles = doc["arrays"], doc["singles"]
     for items in arrays.values():
         _check_unique(items)

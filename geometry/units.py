@@ -25,6 +25,20 @@ def format_frequency(f, sep=" "):
     return f"{f:.3g}{sep}Hz"
 
 
+def format_length(x):
+    """A length in metres with the nearest of m, mm, um, nm (three significant digits).
+
+    Examples
+    --------
+    >>> format_length(40.0), format_length(0.035), format_length(3.5e-8)
+    ('40 m', '35 mm', '35 nm')
+    """
+    for scale, name in ((1.0, "m"), (1e-3, "mm"), (1e-6, "um")):
+        if abs(x) >= scale:
+            return f"{x / scale:.3g} {name}"
+    return f"{x / 1e-9:.3g} nm"
+
+
 
 #: Metres per unit. ``mil`` is a thousandth of an inch; the inch is exactly 25.4 mm
 #: (international yard and pound agreement, 1959).

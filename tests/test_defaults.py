@@ -38,9 +38,11 @@ def test_an_integer_is_the_users_override_and_is_warned_about(tmp_path):
     net = build_network(triangulate(case.layout, COARSE), case.layout, f_max=1e8)
     assert net.layer_sublayers == (1, 1)
     lines = skin_warnings(case.layout.layers, net.layer_sublayers, [0.0, 1e8], source="strip.toml")
-    assert len(lines) == 2 and lines[0].startswith("strip.toml: layer 'top': 35 um copper is 5.3 skin")
-    assert "its one sublayer (set by the case) resolves" in lines[0]
-    assert "at 100 MHz" in lines[0] and "sublayers = 4 would resolve it" in lines[0]
+    # both layers share the cause: one line naming both
+    assert len(lines) == 1 and lines[0].startswith("strip.toml: layers 'top', ")
+    assert "35 um copper, one sublayer (set by the case)" in lines[0]
+    assert "5.3 skin depths thick at 100 MHz" in lines[0]
+    assert lines[0].endswith("sublayers = 4 would resolve it up to 100 MHz")
 
 
 def test_no_warning_when_resolved_or_thin(tmp_path):
@@ -64,8 +66,8 @@ def test_auto_stays_within_the_unknown_budget():
     assert choose_sublayers([big, small, fixed], [4000, 1000, 500], 2e8, budget=10_000) == [1, 1, 2]
     assert choose_sublayers([fixed], [10**6], 1e8, budget=10) == [2]
     lines = skin_warnings([big, small], n[:2], [2e8])
-    assert len(lines) == 2 and "lowered from 5 by \"auto\"" in lines[0]
-    assert "skin effect only up to 57 MHz" in lines[0]
+    assert len(lines) == 1 and lines[0].startswith("layers 'plane', 'trace': ")   # one cause, one line
+    assert "\"auto\" lowered them from 5" in lines[0] and "resolved up to 57 MHz" in lines[0]
 
 
 def test_default_mesh_from_width_and_height(tmp_path):
@@ -110,3 +112,18 @@ def test_single_layer_uses_the_width():
     assert math.isinf(return_gap(lay))
     assert opts.min_edge == pytest.approx(0.5 * trace_width(lay))
     assert "no return copper" in note
+
+
+def test_eight_auto_sublayers_at_5_ghz_say_what_was_used_why_and_the_remedy():
+    # 35 um copper at 5 GHz (delta 0.93 um): "auto" gives its most, 8 sublayers, which resolve
+    # up to 2.46 GHz; the line must not claim they were lowered, nor offer 8 as the remedy.
+    layer = Layer("L1", 0.0, 35e-6, sublayers="auto")
+    (line,) = skin_warnings([layer], [8], [0.0, 5e9], source="c.toml")
+    assert line == ("c.toml: layer 'L1': 35 um copper, 8 sublayers (the most \"auto\" gives is 8): "
+                    "skin effect resolved up to 2.46 GHz, but the copper is 37.4 skin depths thick at "
+                    "5 GHz: from there up, R reads low and L high; sublayers = 10 would resolve it up to 5 GHz")
+    assert "lowered" not in line and "sublayers = 8" not in line
+    # lowered by the budget: says from what, and the remedy is the count "auto" wanted
+    (low,) = skin_warnings([layer], [3], [1e8])
+    assert "\"auto\" lowered them from 4 to keep the mesh within 20,000 unknowns" in low
+    assert low.endswith("sublayers = 4 would resolve it up to 100 MHz")

@@ -3,14 +3,15 @@ import json
 
 import numpy as np
 
-from copperpath.solver.output.maps import map_frequencies, safe_name, write_maps
+from copperpath.solver.output.maps import map_frequencies, primary, safe_name, write_maps
 from tests.test_plot import distinct_colours
 from tests.test_post import MM, neck_case
 
 
 def test_write_maps_names_pictures_and_bottlenecks(tmp_path):
     case, mesh, system, result = neck_case()            # sweep: DC, 1 MHz, 100 MHz
-    images, bottlenecks, _ = write_maps(tmp_path, case, mesh, system, result)
+    images, rankings, _ = write_maps(tmp_path, case, mesh, system, result)
+    bottlenecks = primary(rankings)
     names = sorted(p.path.name for p in images)
     # 100 MHz lies below the quasi-static limit of a 12 mm strip (about 1.2 GHz): the map frequency
     assert names == sorted(["P_RL.png", "P_L1_J_DC.png", "P_L1_L_DC.png", "P_L1_R_DC.png",

@@ -36,7 +36,8 @@ def neck():
 def test_layer_maps_written_and_not_blank(tmp_path, neck, draw):
     case, mesh, result, maps, found = neck
     path = tmp_path / f"{draw.__name__}.png"
-    kwargs = {} if draw is plot.ir_drop_map else {"markers": found}
+    marks = [(n, b.x, b.y, b.layers) for n, b in enumerate(found, start=1)]
+    kwargs = {} if draw is plot.ir_drop_map else {"markers": marks}
     draw(path, mesh, case, maps, layer_index=0, **kwargs)
     assert path.read_bytes()[:8] == b"\x89PNG\r\n\x1a\n"
     assert distinct_colours(path) > 100          # a colour scale, not an empty frame

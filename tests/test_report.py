@@ -7,7 +7,7 @@ import subprocess
 
 import pytest
 
-from copperpath.solver.output.maps import write_maps
+from copperpath.solver.output.maps import primary, write_maps
 from copperpath.solver.output.formatting import engineering
 from copperpath.solver.output.report import CAUTION, write_report
 from tests.test_plot import distinct_colours
@@ -20,9 +20,11 @@ CHROMIUM = shutil.which("chromium")
 def report(tmp_path_factory):
     out = tmp_path_factory.mktemp("report")
     case, mesh, system, result = lumped_case()
-    images, bottlenecks, _ = write_maps(out, case, mesh, system, result)
+    images, rankings, _ = write_maps(out, case, mesh, system, result)
+    bottlenecks = primary(rankings)
     summary = {"mesh": {"triangles": mesh.n_triangles, "unknowns": system.network.n_branches},
-               "timing_s": {"solve": 0.5}, "bottlenecks": bottlenecks}
+               "timing_s": {"solve": 0.5}, "bottlenecks": bottlenecks,
+               "bottlenecks_by_frequency": rankings}
     extra = [("Circuit estimate", "<p>extra-html-section</p>", "extra-md-section")]
     html_path, md_path = write_report(out, case, result, summary, images, warnings=["a <test> warning"],
                                       extra_sections=extra)

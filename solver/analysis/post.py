@@ -195,6 +195,7 @@ class Bottleneck:
                "resistance_share": self.resistance_share, "kind": self.kind,
                "inductance_h": self.inductance, "resistance_ohm": self.resistance,
                "area": self.area / unit_scale**2, "frequency_hz": self.frequency,
+               "layers": list(self.layers),
                "path_length": self.path_length / unit_scale,
                "inductance_per_length_h_per_m": (self.concentration if self.path_length > 0
                                                  else None)}

@@ -129,9 +129,40 @@ def skin_rows(layers, n_sub, frequencies):
     return rows
 
 
+def needed_sublayers(layer, f, most=32):
+    """Fewest sublayers (1, or 3 to ``most``) that resolve ``layer`` at ``f`` Hz; ``None`` if
+    none does (``most``: the case file's limit).
+
+    Examples
+    --------
+    >>> from copperpath.geometry.model import Layer
+    >>> needed_sublayers(Layer("L1", 0.0, 35e-6), 5e9)
+    12
+    """
+    for n in [1] + list(range(3, most + 1)):
+        if f <= resolved_up_to(layer, n):
+            return n
+    return None
+
+
+def _reason(layer, n, f_top):
+    """Why the layer has ``n`` sublayers, in words."""
+    if isinstance(layer.sublayers, int):
+        return "set by the case"
+    wanted = auto_sublayers(layer, f_top)
+    if n < wanted:
+        return (f"\"auto\" lowered them from {wanted} to keep the mesh within "
+                f"{AUTO_UNKNOWN_BUDGET:,} unknowns")
+    return f"the most \"auto\" gives is {MAX_SUBLAYERS}"
+
+
 def skin_warnings(layers, n_sub, frequencies, *, source=""):
-    """One warning per layer that does not resolve skin effect at a solved frequency where it
-    is thicker than ``WARN_THICKNESS`` skin depths.
+    """One warning per cause: the layers that do not resolve skin effect at a solved frequency
+    where they are thicker than ``WARN_THICKNESS`` skin depths, grouped when they share the
+    copper, the sublayers used, the reason and the remedy.
+
+    Each line says what was used (sublayers and why), what it means (from which frequency R
+    reads low and L high) and what would resolve it (the integer ``sublayers`` to set).
 
     Parameters
     ----------
@@ -149,21 +180,26 @@ def skin_warnings(layers, n_sub, frequencies, *, source=""):
     """
     prefix = f"{source}: " if source else ""
     freqs = np.asarray(frequencies, float)
-    out = []
+    groups = {}
     for layer, n, f_res, _ in skin_rows(layers, n_sub, freqs):
         bad = freqs[(freqs > f_res)
                     & (layer.thickness > WARN_THICKNESS * skin_depth(np.maximum(freqs, 1e-300),
                                                                      layer.conductivity))]
         if not len(bad):
             continue
-        f = float(bad.min())
-        need = auto_sublayers(layer, float(freqs.max()))
-        why = ("set by the case" if isinstance(layer.sublayers, int)
-               else f"lowered from {need} by \"auto\" to keep the mesh within "
-                    f"{AUTO_UNKNOWN_BUDGET:,} unknowns")
-        what = f"its {n} sublayers ({why}) resolve" if n > 1 else f"its one sublayer ({why}) resolves"
-        out.append(f"{prefix}layer '{layer.name}': {layer.thickness * 1e6:.3g} um copper is "
-                   f"{layer.thickness / float(skin_depth(f, layer.conductivity)):.1f} skin depths "
-                   f"thick at {format_frequency(f)} but {what} skin effect only up to {format_frequency(f_res)}: there "
-                   f"and above, R reads low and L high; sublayers = {need} would resolve it")
+        f_top = float(freqs.max())
+        key = (layer.thickness, layer.conductivity, int(n), _reason(layer, n, f_top),
+               needed_sublayers(layer, f_top), float(bad.min()), f_res)
+        groups.setdefault(key, []).append(layer.name)
+    out = []
+    for (t, sigma, n, why, need, f, f_res), names in groups.items():
+        f_top = float(freqs.max())
+        who = ("layer " if len(names) == 1 else "layers ") + ", ".join(f"'{m}'" for m in names)
+        used = f"{n} sublayers" if n > 1 else "one sublayer"
+        fix = (f"sublayers = {need} would resolve it up to {format_frequency(f_top)}" if need
+               else f"no sublayer count up to 32 resolves {format_frequency(f_top)}; lower the top frequency")
+        out.append(f"{prefix}{who}: {t * 1e6:.3g} um copper, {used} ({why}): skin effect resolved up "
+                   f"to {format_frequency(f_res)}, but the copper is "
+                   f"{t / float(skin_depth(f, sigma)):.1f} skin depths thick at {format_frequency(f)}: "
+                   f"from there up, R reads low and L high; {fix}")
     return out

@@ -11,7 +11,8 @@
 frequency within the quasi-static limit ``c0 / (10 sqrt(4.5) D)``, ``D`` the largest dimension
 of the modelled copper (:func:`copperpath.solver.analysis.post.quasi_static_limit`); where every swept frequency
 lies above it, the lowest one. Bottlenecks are found at the map frequency (at DC when the
-sweep holds DC only).
+sweep holds DC only) and, separately, at DC: one ranking per reported frequency, and the maps
+of that frequency number their markers from it.
 """
 from __future__ import annotations
 
@@ -103,6 +104,35 @@ def free_copper_layers(mesh):
     return [li for li in range(len(mesh.layer_names)) if (bulk & (mesh.tri_layer == li)).any()]
 
 
+def reported_frequencies(mesh, case, result):
+    """Sweep indices that the maps, the report and the command line show: DC and the map
+    frequency (either absent when not swept), ascending and without repeats."""
+    dc, fmap, _, _ = map_frequencies(mesh, case, result)
+    return list(dict.fromkeys(i for i in (dc, fmap) if i is not None))
+
+
+def _ranking(case, mesh, system, result, fi, k):
+    """The maps of port ``k`` at sweep index ``fi`` and its ranked bottlenecks (JSON-ready)."""
+    maps = post.port_maps(mesh, system, result, freq_index=fi, port_index=k,
+                          layout=case.layout, lumped=case.lumped)
+    found = post.find_bottlenecks(mesh, maps)[:TOP_BOTTLENECKS]
+    return maps, [b.as_dict(case.unit_scale, rank=n + 1) for n, b in enumerate(found)]
+
+
+def markers(ranked, unit_scale):
+    """The numbered map markers of a ranking: ``(rank, x, y, layers)``, x and y in metres.
+
+    Taken from the very dicts of the table (``result.json``, the report, the command line), so
+    that marker "3" is entry #3 of the ranking at that frequency."""
+    return tuple((b["rank"], b["x"] * unit_scale, b["y"] * unit_scale, tuple(b["layers"]))
+                 for b in ranked)
+
+
+def primary(rankings):
+    """The bottlenecks at the map frequency (else DC) from :func:`write_maps`'s rankings."""
+    return list(rankings[-1]["bottlenecks"]) if rankings else []
+
+
 def write_maps(out_dir, case, mesh, system, result):
     """Write every map and R(f)/L(f) plot into ``out_dir/maps`` and rank the bottlenecks.
 
@@ -118,15 +148,21 @@ def write_maps(out_dir, case, mesh, system, result):
     Returns
     -------
     images : list of MapImage
-    bottlenecks : list of dict
-        The top :data:`TOP_BOTTLENECKS` of each port, JSON-ready (lengths in the case's units,
-        shares as fractions), with ``rank`` (1 = first, see :func:`copperpath.solver.analysis.post.find_bottlenecks`).
+    rankings : list of dict
+        One ranking per reported frequency (:func:`reported_frequencies`, ascending):
+        ``{"frequency_hz": f, "bottlenecks": [...]}``, the top :data:`TOP_BOTTLENECKS` of each
+        port, JSON-ready (lengths in the case's units, shares as fractions), with ``rank``
+        (1 = first, see :func:`copperpath.solver.analysis.post.find_bottlenecks`). The maps at
+        that frequency number their markers from the same list. :func:`primary` gives the
+        map frequency's list.
     warnings : list of str
         One line per picture that failed and was skipped.
     """
     folder = Path(out_dir) / "maps"
     dc, fmap, f_lim, d = map_frequencies(mesh, case, result)
-    images, bottlenecks, warnings = [], [], []
+    images, warnings = [], []
+    shown = reported_frequencies(mesh, case, result) if result.currents is not None else []
+    rankings = [{"frequency_hz": float(result.frequencies[fi]), "bottlenecks": []} for fi in shown]
     for k, port in enumerate(result.ports):
         path = folder / f"{safe_name(port)}_RL.png"
         failed = _draw(plot.impedance_plot, path, result, k, f_limit=f_lim)
@@ -135,45 +171,35 @@ def write_maps(out_dir, case, mesh, system, result):
         else:
             images.append(MapImage(path, f"Port {port}: R(f) and L(f); dashed lines: DC values.",
                                    port, "", "rl", None))
-        if result.currents is None:
-            continue
-        rank_at = fmap if fmap is not None else dc
-        for fi in dict.fromkeys(i for i in (dc, fmap) if i is not None):
-            maps = post.port_maps(mesh, system, result, freq_index=fi, port_index=k,
-                                  layout=case.layout, lumped=case.lumped)
-            found = post.find_bottlenecks(mesh, maps)[:TOP_BOTTLENECKS]
-            if fi == rank_at:
-                bottlenecks += [b.as_dict(case.unit_scale, rank=n + 1) for n, b in enumerate(found)]
-            images += _port_maps(folder, case, mesh, maps, found, fi == dc, f_lim, d, warnings)
-    return images, bottlenecks, warnings
+        for fi, ranking in zip(shown, rankings):
+            maps, ranked = _ranking(case, mesh, system, result, fi, k)
+            ranking["bottlenecks"] += ranked
+            images += _port_maps(folder, case, mesh, maps, markers(ranked, case.unit_scale),
+                                 fi == dc, f_lim, d, warnings)
+    return images, rankings, warnings
 
 
 def rank_bottlenecks(case, mesh, system, result):
-    """The ranked bottlenecks of every port, as :func:`write_maps` returns them, without drawing.
+    """The ranked bottlenecks of every port at the map frequency (else DC), as
+    :func:`primary` of :func:`write_maps` gives them, without drawing.
 
     Returns
     -------
     list of dict
-        The top :data:`TOP_BOTTLENECKS` of each port at the map frequency (else DC), JSON-ready.
+        The top :data:`TOP_BOTTLENECKS` of each port, JSON-ready.
     """
     if result.currents is None:
         return []
-    dc, fmap, _, _ = map_frequencies(mesh, case, result)
-    rank_at = fmap if fmap is not None else dc
-    if rank_at is None:
+    shown = reported_frequencies(mesh, case, result)
+    if not shown:
         return []
-    out = []
-    for k in range(len(result.ports)):
-        maps = post.port_maps(mesh, system, result, freq_index=rank_at, port_index=k,
-                              layout=case.layout, lumped=case.lumped)
-        found = post.find_bottlenecks(mesh, maps)[:TOP_BOTTLENECKS]
-        out += [b.as_dict(case.unit_scale, rank=n + 1) for n, b in enumerate(found)]
-    return out
+    return [b for k in range(len(result.ports))
+            for b in _ranking(case, mesh, system, result, shown[-1], k)[1]]
 
 
 def _port_maps(folder, case, mesh, maps, found, is_dc, f_lim, d, warnings):
-    """The maps of one port at one frequency, every layer with free copper; a failed picture
-    adds a line to ``warnings``."""
+    """The maps of one port at one frequency, every layer with free copper, ``found`` the
+    markers (:func:`markers`); a failed picture adds a line to ``warnings``."""
     label = plot.format_frequency(maps.frequency, sep="")
     why = ("" if is_dc else f" (highest swept frequency within the quasi-static limit "
                             f"{plot.format_frequency(f_lim)} for D = {d / case.unit_scale:.3g} {case.unit})")

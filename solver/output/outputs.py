@@ -11,7 +11,7 @@ from copperpath.solver.output.exports.spice import write_spice
 from copperpath.solver.output.exports.touchstone import write_touchstone
 from copperpath.solver.output.exports.vtu import write_vtu
 from copperpath.solver.solve.finite import require_finite
-from copperpath.solver.output.maps import map_frequencies, write_maps
+from copperpath.solver.output.maps import map_frequencies, primary, write_maps
 from copperpath.solver.graph.skin import skin_rows, skin_warnings
 from copperpath.geometry.units import format_frequency
 from copperpath.solver.output.formatting import engineering
@@ -102,13 +102,14 @@ def write_outputs(case, mesh, system, result, out, *, timing=None, extra_section
     write_touchstone(out / f"{stem}_Z.s{n}p", result)
     write_touchstone(out / f"{stem}_S.s{n}p", result, parameter="S")
     fitted = write_spice(out / f"{stem}.cir", result, name=stem)
-    images, bottlenecks, picture_warnings = write_maps(out, case, mesh, system, result)
+    images, rankings, picture_warnings = write_maps(out, case, mesh, system, result)
+    bottlenecks = primary(rankings)
     if result.currents is not None:
         dc, fmap, _, _ = map_frequencies(mesh, case, result)
         write_vtu(out / "mesh.vtu", mesh, system, result, case,
                   freq_index=fmap if fmap is not None else dc, port_index=0)
     summary = write_result_json(out / "result.json", result, mesh_stats=mesh_stats(mesh, system),
-                                bottlenecks=bottlenecks,
+                                bottlenecks=bottlenecks, rankings=rankings,
                                 circuit=estimate.to_dict() if estimate else None, timing=timing,
                                 length_unit=case.unit)
     skin = skin_summary(case, system, result)
@@ -207,10 +208,13 @@ def format_table(case, result, summary=None):
             f"{r['layer']} {r['sublayers']} sublayer{'s' if r['sublayers'] > 1 else ''} "
             f"(resolved up to {engineering(r['resolved_up_to_hz'], 'Hz', 3)})"
             + ("" if r["resolved"] else " NOT RESOLVED at the top frequency") for r in summary["skin"]))
-    if summary and summary.get("bottlenecks"):
-        lines.append(f"bottlenecks, most concentrated first (L share per length of current path, "
-                     f"share of loop L and R; x, y in {case.unit}):")
-        for b in summary["bottlenecks"]:
+    for ranking in (summary or {}).get("bottlenecks_by_frequency", ()):
+        if not ranking["bottlenecks"]:
+            continue
+        at = format_frequency(ranking["frequency_hz"])
+        lines.append(f"bottlenecks at {at} (the numbers on the {at} maps), most concentrated first "
+                     f"(L share per length of current path, share of loop L and R; x, y in {case.unit}):")
+        for b in ranking["bottlenecks"]:
             where = f"{b['layer']} at ({b['x']:.3g}, {b['y']:.3g})"
             if b.get("name"):
                 where = f"{b['kind']} {b['name']} ({b['layer']})"

@@ -121,9 +121,9 @@ def _decorate(ax, mesh, case, layer_index, tris, points, local, markers, shade, 
     for via in case.layout.vias:
         if layer in (via.connects or via.span):
             ax.add_patch(_circle(via.x / scale, via.y / scale, 0.5 * via.drill / scale))
-    for n, b in enumerate(markers, start=1):
-        if layer in b.layers:
-            ax.text(b.x / scale, b.y / scale, str(n), ha="center", va="center", fontsize=9,
+    for n, x, y, layers in markers:
+        if layer in layers:
+            ax.text(x / scale, y / scale, str(n), ha="center", va="center", fontsize=9,
                     fontweight="bold", color="black", zorder=7,
                     bbox={"boxstyle": "circle,pad=0.25", "fc": "#ffffffdd", "ec": "#0066cc", "lw": 1.5})
     for other in range(len(mesh.layer_names)):             # the other layers, for lining up
@@ -192,8 +192,9 @@ def layer_map(path, mesh, case, values, *, layer_index, title, label, cmap, log=
         Shade terminal and via-pad triangles grey instead of colouring them.
     vectors : ndarray of complex, shape (M, 2), optional
         Draw the direction of ``Re(vectors)`` as arrows.
-    markers : sequence of copperpath.solver.analysis.post.Bottleneck
-        Numbered in order, on their layer.
+    markers : sequence of (int, float, float, tuple of str)
+        ``(number, x, y, layers)``, x and y in metres (:func:`copperpath.solver.output.maps.markers`):
+        the number is drawn at (x, y) on each of its layers.
     note : str, optional
         A line of small text under the axes.
     symmetric : bool

@@ -152,6 +152,27 @@ def _answer(case, result, bottlenecks, top=3):
     return parts
 
 
+def _maps_by_frequency(images, rankings, unit, out_dir):
+    """The maps grouped by frequency, each group after the ranking its markers number
+    (``[(html, markdown), ...]``)."""
+    by_f = {}
+    for x in images:
+        by_f.setdefault(getattr(x, "frequency", None), []).append(_image(x))
+    ranked = {r["frequency_hz"]: r["bottlenecks"] for r in rankings}
+    parts = []
+    for f, pics in by_f.items():
+        head = f"At {format_frequency(f)}" if f is not None else "Other pictures"
+        parts.append((f"<h3>{_esc(head)}</h3>", f"### {head}"))
+        if ranked.get(f):
+            h, m = _bottleneck_table(ranked[f], unit)
+            text = f"Bottlenecks at {format_frequency(f)}: the numbers on the maps below."
+            parts.append((f"<p>{_esc(text)}</p>\n{h}", f"{text}\n\n{m}"))
+        figs = [(_figure_html(p, c), _figure_md(p, c, out_dir)) for p, c in pics]
+        parts.append(('<div class="grid">' + "".join(h for h, _ in figs) + "</div>",
+                      "\n\n".join(m for _, m in figs)))
+    return parts
+
+
 def write_report(out_dir, case, result, summary=None, images=(), *, bottlenecks=None,
                  warnings=(), extra_sections=(), lead_sections=()):
     """Write ``report.html`` and ``report.md`` into ``out_dir``.
@@ -207,12 +228,14 @@ def write_report(out_dir, case, result, summary=None, images=(), *, bottlenecks=
                 "most concentrated (numbered on the maps), ranked by inductance share per length "
                 "of current path: the places where each millimetre of path costs the most loop L, "
                 "however large a region is drawn. Lumped branches (components) follow the copper and vias. "
-                "Shares are fractions of the port's own L and R at the frequency given.")
+                "Shares are fractions of the port's own L and R at the frequency given. Each map "
+                "frequency has its own ranking, printed beside its maps.")
         sections.append(("Bottlenecks", [(f"<p>{_esc(text)}</p>\n{h}", f"{text}\n\n{m}")]))
-    maps = [(_figure_html(p, c), _figure_md(p, c, out_dir)) for p, c, k in pics if k != "rl"]
+    rankings = (summary or {}).get("bottlenecks_by_frequency", ())
+    maps = _maps_by_frequency([x for x in images if getattr(x, "kind", "") != "rl"], rankings,
+                              case.unit, out_dir)
     if maps:
-        sections.append(("Maps", [('<div class="grid">' + "".join(h for h, _ in maps) + "</div>",
-                                   "\n\n".join(m for _, m in maps))]))
+        sections.append(("Maps", maps))
     for title, h, m in extra_sections:
         sections.append((title, [(h, m)]))
     sections.append(("Cautions", [(f'<div class="caution">{_esc(CAUTION)}</div>', f"> {CAUTION}")]))

@@ -10,7 +10,7 @@ from copperpath.solver.output.files import write_text
 SCHEMA = "copperpath.result/1"
 
 
-def result_dict(result, *, mesh_stats=None, bottlenecks=(), circuit=None, timing=None,
+def result_dict(result, *, mesh_stats=None, bottlenecks=(), rankings=(), circuit=None, timing=None,
                 length_unit="m"):
     """The result as plain JSON-ready data (SI units, matrices ``[frequency][i][j]``).
 
@@ -20,7 +20,10 @@ def result_dict(result, *, mesh_stats=None, bottlenecks=(), circuit=None, timing
     mesh_stats : dict, optional
         ``triangles``, ``edges``, ``unknowns``, ``nodes``.
     bottlenecks : sequence of dict
-        Ranked bottlenecks (lengths in the case's units).
+        Ranked bottlenecks at the map frequency (lengths in the case's units).
+    rankings : sequence of dict
+        One ranking per reported frequency, ``{"frequency_hz", "bottlenecks"}``, written as
+        ``bottlenecks_by_frequency`` (the maps number their markers from these lists).
     circuit : dict, optional
         Circuit estimates.
     timing : dict, optional
@@ -44,6 +47,7 @@ def result_dict(result, *, mesh_stats=None, bottlenecks=(), circuit=None, timing
         "mesh": dict(mesh_stats or {}),
         "length_unit": str(length_unit),
         "bottlenecks": list(bottlenecks),
+        "bottlenecks_by_frequency": [dict(r) for r in rankings],
         "circuit": dict(circuit or {}),
         "timing_s": dict(timing or {}),
     }
