@@ -39,7 +39,6 @@ def format_length(x):
     return f"{x / 1e-9:.3g} nm"
 
 
-
 #: Metres per unit. ``mil`` is a thousandth of an inch; the inch is exactly 25.4 mm
 #: (international yard and pound agreement, 1959).
 UNITS = {
