@@ -140,8 +140,8 @@ class _NoDense:
     def diagonal(self):
         return self.inner.diagonal()
 
-    def near(self):
-        return self.inner.near()
+    def near(self, taper=False):
+        return self.inner.near(taper=taper)
 
 
 def test_nothing_dense_on_the_fast_path_and_outputs_are_written(tmp_path):

@@ -114,37 +114,31 @@ def symmetric_list(ptr, other):
 
 
 @njit(cache=True, fastmath=FASTMATH)
-def _grid_moments(a, b, start, size, off, w, gk, out):
+def _grid_moments(a, b, node_ptr, nodes, w, gk, out):
     """Pair moments as the grid sees them: ``sum_ij q_a(i) G(n_i - n_j) q_b(j)`` per moment."""
     for k in range(6):
         out[k] = 0.0
-    na = off[a]
-    for i in range(size[a, 0]):
-        for j in range(size[a, 1]):
-            s0 = 0.0
-            sx = 0.0
-            sy = 0.0
-            nb = off[b]
-            for k in range(size[b, 0]):
-                ox = abs(start[a, 0] + i - start[b, 0] - k)
-                for m in range(size[b, 1]):
-                    g = gk[ox, abs(start[a, 1] + j - start[b, 1] - m)]
-                    s0 += g * w[0, nb]
-                    sx += g * w[1, nb]
-                    sy += g * w[2, nb]
-                    nb += 1
-            out[0] += w[0, na] * s0
-            out[1] += w[1, na] * s0
-            out[2] += w[2, na] * s0
-            out[3] += w[0, na] * sx
-            out[4] += w[0, na] * sy
-            out[5] += w[1, na] * sx + w[2, na] * sy
-            na += 1
+    for na in range(node_ptr[a], node_ptr[a + 1]):
+        ia, ja = nodes[na, 0], nodes[na, 1]
+        s0 = 0.0
+        sx = 0.0
+        sy = 0.0
+        for nb in range(node_ptr[b], node_ptr[b + 1]):
+            g = gk[abs(ia - nodes[nb, 0]), abs(ja - nodes[nb, 1])]
+            s0 += g * w[0, nb]
+            sx += g * w[1, nb]
+            sy += g * w[2, nb]
+        out[0] += w[0, na] * s0
+        out[1] += w[1, na] * s0
+        out[2] += w[2, na] * s0
+        out[3] += w[0, na] * sx
+        out[4] += w[0, na] * sy
+        out[5] += w[1, na] * sx + w[2, na] * sy
 
 
 @njit(parallel=True, cache=True)
 def pair_tables(verts, tri_vid, cent, area, diam, zmid, tri_zi, zpar, ptr, other, obary, ow,
-                nrule, glx, glw, panel, far_pts, far_wts, far_n, far_q, start, size, off, w,
+                nrule, glx, glw, panel, far_pts, far_wts, far_n, far_q, node_ptr, nodes, w,
                 plane, gk, gk_key):
     """Exact and grid moments (n_pairs, 6) of every listed pair, from its owner.
 
@@ -181,7 +175,7 @@ def pair_tables(verts, tri_vid, cent, area, diam, zmid, tri_zi, zpar, ptr, other
                 nq = far_n[lev]
                 far_moments(dx, dy, far_pts[lev, a, :nq], far_wts[lev, a, :nq],
                             far_pts[lev, b, :nq], far_wts[lev, b, :nq], par, exact[k])
-            _grid_moments(a, b, start, size, off, w, gk[gk_key[plane[a], plane[b]]], grid[k])
+            _grid_moments(a, b, node_ptr, nodes, w, gk[gk_key[plane[a], plane[b]]], grid[k])
     return exact, grid
 
 

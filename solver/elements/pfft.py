@@ -29,6 +29,7 @@ from numba import njit, prange
 from scipy.signal import fftconvolve
 
 from copperpath.solver.elements import nearfield
+from copperpath.solver.elements import taper as taper_mod
 from copperpath.solver.elements.kernels import averaged_kernel
 from copperpath.solver.elements.partial import (MU0, N_W, W_PANEL, FAR_LEVELS, _check_halves, _far_rules,
                             _layer_params, _outer_rules, _triangle_geometry)
@@ -113,12 +114,12 @@ class SheetOperator:
     _plane_ptr: np.ndarray = field(repr=False)
     _plane_tri: np.ndarray = field(repr=False)
     _plane: np.ndarray = field(repr=False)
-    _start: np.ndarray = field(repr=False)
-    _size: np.ndarray = field(repr=False)
-    _off: np.ndarray = field(repr=False)
+    _node_ptr: np.ndarray = field(repr=False)
+    _nodes: np.ndarray = field(repr=False)
     _w: np.ndarray = field(repr=False)
     _khat: np.ndarray = field(repr=False)
     _key: np.ndarray = field(repr=False)
+    _pos: np.ndarray = field(repr=False)
 
     @property
     def nbytes(self) -> int:
@@ -127,9 +128,8 @@ class SheetOperator:
         n += self._corr.indices.nbytes + self._corr.indptr.nbytes
         for m in (self._coef, self._coef_t):
             n += m.data.nbytes + m.indices.nbytes + m.indptr.nbytes
-        for a in (self._plane_ptr, self._plane_tri, self._plane, self._start, self._size,
-                  self._off, self._w,
-                  self._khat, self._key):
+        for a in (self._plane_ptr, self._plane_tri, self._plane, self._node_ptr, self._nodes,
+                  self._w, self._khat, self._key, self._pos):
             n += a.nbytes
         return int(n)
 
@@ -137,17 +137,25 @@ class SheetOperator:
         """Exact self inductances (B,) in henry (0 for non-sheet branches)."""
         return self._exact.diagonal()
 
-    def near(self):
+    @property
+    def near_radius(self):
+        """Near radius of the correction (3-D centroid distance), metres."""
+        return self.accuracy.near_spacings * self.spacing
+
+    def near(self, taper=False):
         """Exact partial inductances of the near branch pairs, ``scipy.sparse.csr_matrix`` (B, B).
 
         A branch pair is in the pattern when all its triangle pairs are near pairs of the
-        correction; there the entry equals the dense matrix's. Symmetric.
+        correction; there the entry equals the dense matrix's. Symmetric. With ``taper``,
+        each entry is weighted by the positive-definite taper of
+        :mod:`copperpath.solver.elements.taper` over :attr:`near_radius`.
         """
         keep = self._full
         kept = np.concatenate([[0], np.cumsum(keep)])
         indptr = kept[self._exact.indptr]
-        return sp.csr_matrix((self._exact.data[keep], self._exact.indices[keep], indptr),
+        near = sp.csr_matrix((self._exact.data[keep], self._exact.indices[keep], indptr),
                              shape=self.shape)
+        return taper_mod.tapered(near, self._pos, self.near_radius) if taper else near
 
     def __matmul__(self, x):
         x = np.asarray(x)
@@ -168,7 +176,7 @@ class SheetOperator:
 
     def _far(self, r):
         """Grid (far-field) product of real columns ``r`` (B, k)."""
-        v = self._start.shape[0]
+        v = self._node_ptr.shape[0] - 1
         a = np.asarray(self._coef @ r)                       # (3V, k): alpha, beta_x, beta_y
         out = np.empty((3 * v, r.shape[1]))
         nx, ny = self.grid
@@ -181,14 +189,14 @@ class SheetOperator:
             c1 = min(r.shape[1], c0 + chunk)
             ca = np.ascontiguousarray(a[:, c0:c1].T.reshape(c1 - c0, 3, v))
             q = np.zeros((c1 - c0, self.n_planes, 2, nx, ny), dtype)
-            _spread(ca, self._plane_ptr, self._plane_tri, self._start, self._size, self._off, self._w, q)
+            _spread(ca, self._plane_ptr, self._plane_tri, self._node_ptr, self._nodes, self._w, q)
             qh = scipy.fft.rfft2(q, s=(nxp, nyp), workers=WORKERS)
             del q
             ph = _convolve(qh, self._khat, self._key)
             del qh
             phi = scipy.fft.irfft2(ph, s=(nxp, nyp), workers=WORKERS)
             del ph
-            g = _gather(phi, self._plane, self._start, self._size, self._off, self._w)   # (kc, V, 4)
+            g = _gather(phi, self._plane, self._node_ptr, self._nodes, self._w)   # (kc, V, 4)
             out[:v, c0:c1] = (g[:, :, 1] + g[:, :, 3]).T
             out[v:2 * v, c0:c1] = -g[:, :, 0].T
             out[2 * v:, c0:c1] = -g[:, :, 2].T
@@ -211,7 +219,7 @@ def _csr_product(indptr, indices, data, x):
 
 
 @njit(parallel=True, cache=True)
-def _spread(ca, plane_ptr, plane_tri, start, size, off, w, q):
+def _spread(ca, plane_ptr, plane_tri, node_ptr, nodes, w, q):
     """Grid charges ``q`` (k, P, 2, nx, ny) of the triangle coefficients ``ca`` (k, 3, V)."""
     nk = ca.shape[0]
     npl = plane_ptr.size - 1
@@ -221,14 +229,11 @@ def _spread(ca, plane_ptr, plane_tri, start, size, off, w, q):
         for t in range(plane_ptr[pl], plane_ptr[pl + 1]):
             tri = plane_tri[t]
             al, bx, by = ca[c, 0, tri], ca[c, 1, tri], ca[c, 2, tri]
-            i0, j0 = start[tri, 0], start[tri, 1]
-            n = off[tri]
-            for i in range(size[tri, 0]):
-                for j in range(size[tri, 1]):
-                    m0 = w[0, n]
-                    q[c, pl, 0, i0 + i, j0 + j] += al * w[1, n] - bx * m0
-                    q[c, pl, 1, i0 + i, j0 + j] += al * w[2, n] - by * m0
-                    n += 1
+            for n in range(node_ptr[tri], node_ptr[tri + 1]):
+                i, j = nodes[n, 0], nodes[n, 1]
+                m0 = w[0, n]
+                q[c, pl, 0, i, j] += al * w[1, n] - bx * m0
+                q[c, pl, 1, i, j] += al * w[2, n] - by * m0
 
 
 @njit(parallel=True, cache=True)
@@ -250,29 +255,25 @@ def _convolve(qh, khat, key):
 
 
 @njit(parallel=True, cache=True)
-def _gather(phi, plane, start, size, off, w):
+def _gather(phi, plane, node_ptr, nodes, w):
     """Per triangle ``(sum M0 phi_x, sum Mx phi_x, sum M0 phi_y, sum My phi_y)`` (k, V, 4)."""
     nk = phi.shape[0]
-    v = start.shape[0]
+    v = node_ptr.size - 1
     out = np.zeros((nk, v, 4))
     for tri in prange(v):
         pl = plane[tri]
-        i0, j0 = start[tri, 0], start[tri, 1]
         for c in range(nk):
             s0 = 0.0
             s1 = 0.0
             s2 = 0.0
             s3 = 0.0
-            n = off[tri]
-            for i in range(size[tri, 0]):
-                for j in range(size[tri, 1]):
-                    fx = phi[c, pl, 0, i0 + i, j0 + j]
-                    fy = phi[c, pl, 1, i0 + i, j0 + j]
-                    s0 += w[0, n] * fx
-                    s1 += w[1, n] * fx
-                    s2 += w[0, n] * fy
-                    s3 += w[2, n] * fy
-                    n += 1
+            for n in range(node_ptr[tri], node_ptr[tri + 1]):
+                fx = phi[c, pl, 0, nodes[n, 0], nodes[n, 1]]
+                fy = phi[c, pl, 1, nodes[n, 0], nodes[n, 1]]
+                s0 += w[0, n] * fx
+                s1 += w[1, n] * fx
+                s2 += w[0, n] * fy
+                s3 += w[2, n] * fy
             out[c, tri, 0] = s0
             out[c, tri, 1] = s1
             out[c, tri, 2] = s2
@@ -291,51 +292,51 @@ def _lagrange(t, p):
 
 
 def stencil_weights(verts, cent, area, origin, h, p):
-    """Grid block and weights ``(M0, Mx, My)`` of each triangle.
+    """Grid nodes and weights ``(M0, Mx, My)`` of each triangle.
 
     Every point of a degree-6 rule on the triangle is interpolated by the ``p x p`` Lagrange
-    stencil around it; a triangle's block is the union of its points' stencils (``p x p`` for a
-    triangle smaller than a spacing, more for a large one). ``M0`` distributes the triangle's
-    area, ``Mx``/``My`` its first moments about the centroid, so every moment of the density up
-    to degree ``p - 1`` about each point is kept exactly.
+    stencil around it; a triangle's nodes are the union of its points' stencils (``p x p`` for
+    a triangle smaller than a spacing, up to ``12 p^2`` for a large one: a list, not the
+    bounding block, so a pour triangle many spacings wide costs no more than a small one).
+    ``M0`` distributes the triangle's area, ``Mx``/``My`` its first moments about the centroid,
+    so every moment of the density up to degree ``p - 1`` about each point is kept exactly.
 
     Returns
     -------
-    start : ndarray of int64, shape (V, 2)
-        First node of each block.
-    size : ndarray of int64, shape (V, 2)
-        Block size in nodes.
-    off : ndarray of int64, shape (V + 1,)
-        Offset of each block in ``w`` (row-major ``size[0] x size[1]``).
-    w : ndarray, shape (3, off[-1])
-        ``M0`` (m^2), ``Mx``, ``My`` (m^3) per block node.
+    ptr : ndarray of int64, shape (V + 1,)
+        Nodes of triangle ``t`` are ``ptr[t]:ptr[t + 1]``.
+    nodes : ndarray of int64, shape (ptr[-1], 2)
+        Grid indices of the nodes, each once per triangle.
+    w : ndarray, shape (3, ptr[-1])
+        ``M0`` (m^2), ``Mx``, ``My`` (m^3) per node.
     """
     bary, wq = triangle_rule(6)
     nq = len(wq)
+    v = len(cent)
     pts = np.einsum("qk,vkd->vqd", bary, verts)                 # (V, nq, 2)
     u = (pts - origin) / h
     pstart = np.floor(u - 0.5 * (p - 1) + 0.5).astype(np.int64)   # (V, nq, 2)
-    start = pstart.min(axis=1)
-    size = pstart.max(axis=1) - start + p
-    off = np.zeros(len(cent) + 1, np.int64)
-    np.cumsum(size[:, 0] * size[:, 1], out=off[1:])
     loc = u - pstart
-    lx = _lagrange(loc[:, :, 0].ravel(), p).reshape(-1, nq, p)
-    ly = _lagrange(loc[:, :, 1].ravel(), p).reshape(-1, nq, p)
+    lx = _lagrange(loc[:, :, 0].ravel(), p).reshape(v, nq, p)
+    ly = _lagrange(loc[:, :, 1].ravel(), p).reshape(v, nq, p)
     wa = wq[None, :] * area[:, None]                            # (V, nq)
     rel = pts - cent[:, None, :]
     f = np.stack([wa, wa * rel[:, :, 0], wa * rel[:, :, 1]])    # (3, V, nq)
-    w = np.zeros((3, off[-1]))
-    sx = np.repeat(size[:, 1], nq)                              # row length of each point's block
-    di = (pstart - start[:, None, :]).reshape(-1, 2)
-    base = np.repeat(off[:-1], nq) + di[:, 0] * sx + di[:, 1]
-    lx, ly = lx.reshape(-1, p), ly.reshape(-1, p)
-    for i in range(p):
-        for j in range(p):
-            idx = base + i * sx + j
-            for k in range(3):
-                np.add.at(w[k], idx, f[k].ravel() * lx[:, i] * ly[:, j])
-    return start, size, off, w
+    step = np.arange(p)
+    ix = (pstart[:, :, 0, None, None] + step[:, None]).repeat(p, axis=3)      # (V, nq, p, p)
+    iy = (pstart[:, :, 1, None, None] + step[None, :]).repeat(p, axis=2)
+    lw = lx[:, :, :, None] * ly[:, :, None, :]                               # (V, nq, p, p)
+    tri = np.broadcast_to(np.arange(v)[:, None, None, None], ix.shape)
+    ny = int(iy.max()) + 1
+    span = (int(ix.max()) + 1) * ny
+    key, inv = np.unique((tri * span + ix * ny + iy).ravel(), return_inverse=True)
+    inv = inv.ravel()
+    w = np.stack([np.bincount(inv, (f[k][:, :, None, None] * lw).ravel(), len(key))
+                  for k in range(3)])
+    t_of = key // span
+    nodes = np.stack([(key % span) // ny, key % ny], axis=1).astype(np.int64)
+    ptr = np.searchsorted(t_of, np.arange(v + 1)).astype(np.int64)
+    return ptr, nodes, w
 
 
 def _kernel_keys(uz):
@@ -489,8 +490,8 @@ def build_sheet_operator(points, triangles, tri_z, half_branch, half_tri, half_v
     lo, hi = verts.reshape(-1, 2).min(axis=0), verts.reshape(-1, 2).max(axis=0)
     h = choose_spacing(cent, diam, n_planes, hi - lo, acc)
     origin = lo - (p + 1) * h
-    start, size, off, w = stencil_weights(verts, cent, area, origin, h, p)
-    nx, ny = (int(n) for n in (start + size).max(axis=0) + 1)
+    node_ptr, nodes, w = stencil_weights(verts, cent, area, origin, h, p)
+    nx, ny = (int(n) for n in nodes.max(axis=0) + 2)
     nxp, nyp = scipy.fft.next_fast_len(2 * nx - 1, real=True), scipy.fft.next_fast_len(2 * ny - 1, real=True)
     stage("grid")
 
@@ -498,10 +499,11 @@ def build_sheet_operator(points, triangles, tri_z, half_branch, half_tri, half_v
     near_ptr, near_other = nearfield.near_pair_list(cent, zmid, diam, acc.near_spacings * h,
                                                     acc.near_diameters)
     owner = np.repeat(np.arange(v), np.diff(near_ptr))
-    dmax = int(np.max(np.maximum(start[owner] + size[owner] - start[near_other],
-                                 start[near_other] + size[near_other] - start[owner]),
+    lo_n = np.minimum.reduceat(nodes, node_ptr[:-1], axis=0)
+    hi_n = np.maximum.reduceat(nodes, node_ptr[:-1], axis=0)
+    dmax = int(np.max(np.maximum(hi_n[owner] - lo_n[near_other], hi_n[near_other] - lo_n[owner]),
                       initial=0)) + 1
-    del owner
+    del owner, lo_n, hi_n
     key, reps = _kernel_keys(uz)
     quarters = [_sampled_kernel(tuple(uz[i]), tuple(uz[j]), h, max(nx, dmax), max(ny, dmax))
                 for i, j in reps]
@@ -513,7 +515,7 @@ def build_sheet_operator(points, triangles, tri_z, half_branch, half_tri, half_v
     far_q = np.array([q for q, _ in FAR_LEVELS])
     exact, grid = nearfield.pair_tables(verts, tris, cent, area, diam, zmid, tri_zi, zpar,
                                         near_ptr, near_other, obary, ow, nrule, glx, glw, W_PANEL,
-                                        far_pts, far_wts, far_n, far_q, start, size, off, w,
+                                        far_pts, far_wts, far_n, far_q, node_ptr, nodes, w,
                                         tri_zi, gk, key)
     del far_pts, far_wts
     stage("near moments")
@@ -543,4 +545,5 @@ def build_sheet_operator(points, triangles, tri_z, half_branch, half_tri, half_v
                          n_planes=n_planes, accuracy=acc, timing=timing, _corr=corr,
                          _exact=exact_m, _full=full, _coef=coef, _coef_t=coef.T.tocsr(),
                          _plane_ptr=plane_ptr, _plane_tri=plane_tri, _plane=tri_zi,
-                         _start=start, _size=size, _off=off, _w=w, _khat=khat, _key=key)
+                         _node_ptr=node_ptr, _nodes=nodes, _w=w, _khat=khat, _key=key,
+                         _pos=taper_mod.branch_positions(cent, zmid, h_tri, h_branch, nb))

@@ -7,7 +7,9 @@ matrix, so it is no use for large meshes.
 
 ``near()`` holds the entries of ``L`` on the near pattern: branch pairs that have a half on a
 pair of near triangles (the pairs that :func:`copperpath.solver.elements.partial._near_pairs` gives the accurate
-quadrature).
+quadrature); ``near(taper=True)`` weights them by the taper of
+:mod:`copperpath.solver.elements.taper` over :data:`copperpath.solver.elements.partial.NEAR_FACTOR`
+median triangle diameters.
 """
 from __future__ import annotations
 
@@ -15,6 +17,7 @@ import numpy as np
 import scipy.sparse as sp
 
 from copperpath.solver.elements import partial
+from copperpath.solver.elements import taper as taper_mod
 
 
 def near_branch_pattern(points, triangles, tri_z, half_branch, half_tri, n_branches):
@@ -54,10 +57,15 @@ class DenseSheetOperator:
         Henry.
     pattern : scipy.sparse.csr_matrix of bool, shape (B, B)
         Near pattern (see :func:`near_branch_pattern`).
+    positions : ndarray, shape (B, 3), optional
+        Branch positions (metres) for ``near(taper=True)``.
+    near_radius : float, optional
+        Support of the taper, metres.
     """
 
-    def __init__(self, matrix, pattern):
+    def __init__(self, matrix, pattern, positions=None, near_radius=None):
         self._matrix = matrix
+        self._pos, self.near_radius = positions, near_radius
         coo = pattern.tocoo()
         self._near = sp.csr_matrix((matrix[coo.row, coo.col], (coo.row, coo.col)),
                                    shape=matrix.shape)
@@ -81,8 +89,12 @@ class DenseSheetOperator:
     def diagonal(self):
         return np.diag(self._matrix).copy()
 
-    def near(self):
-        return self._near
+    def near(self, taper=False):
+        if not taper:
+            return self._near
+        if self._pos is None:
+            raise ValueError("near(taper=True) needs the branch positions and the near radius")
+        return taper_mod.tapered(self._near, self._pos, self.near_radius)
 
 
 def build_dense_sheet_operator(points, triangles, tri_z, half_branch, half_tri, half_vertex,
@@ -97,4 +109,9 @@ def build_dense_sheet_operator(points, triangles, tri_z, half_branch, half_tri, 
     matrix = partial.inductance_matrix(points, triangles, tri_z, half_branch, half_tri,
                                        half_vertex, half_sign, n_branches)
     pattern = near_branch_pattern(points, triangles, tri_z, half_branch, half_tri, n_branches)
-    return DenseSheetOperator(matrix, pattern)
+    used, h_tri = np.unique(np.asarray(half_tri, np.int64), return_inverse=True)
+    _, cent, _, diam = partial._triangle_geometry(points, np.asarray(triangles, np.int64)[used])
+    _, _, zmid = partial._layer_params(np.asarray(tri_z)[used])
+    pos = taper_mod.branch_positions(cent, zmid, h_tri.ravel(), np.asarray(half_branch, np.int64),
+                                     n_branches)
+    return DenseSheetOperator(matrix, pattern, pos, partial.NEAR_FACTOR * float(np.median(diam)))

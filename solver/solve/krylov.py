@@ -7,16 +7,18 @@ In the loop basis ``C`` (sparse, B x n) each frequency solves
 with the product ``A x = C^T (R (C x) + jw L (C x))``: two sparse products and one product of
 the compressed ``L`` (:class:`copperpath.solver.solve.system.InductanceOperator`). ``A`` is complex symmetric.
 
-Preconditioner: the near-field part ``M(w) = C^T R C + jw C^T L_near C``, factorised by a
-sparse LU (SuperLU, symmetric minimum-degree ordering) once per frequency. ``C^T R C`` and
-``C^T L_near C`` are formed once for the sweep; entries of ``C^T L_near C`` weaker than
-:data:`KEEP` of the geometric mean of their two diagonal entries are dropped, which thins the
-factor several times at little cost in iterations (see DEVELOPERS.md for the measurements).
-The truncated near part is indefinite (a hard cut of the 1/r kernel; on the four-layer
-section its smallest eigenvalues are negative, about -2e-3 of the largest diagonal entry), which
-puts eigenvalues of the preconditioned system around the origin; :data:`SHIFT` times its
-diagonal is added to it, which cut the iterations at 10 and 100 MHz from 110 to 42-46 on a
-19.8k-unknown section (0.05: 65; 0.5: 41).
+Preconditioner: the real matrix ``M(w) = C^T R C + w C^T L_t C``, factorised by a sparse LU
+(SuperLU, symmetric minimum-degree ordering) once per frequency and applied to the real and the
+imaginary part of a vector. ``L_t`` is the near-field part of ``L`` tapered to a positive-definite
+matrix (:mod:`copperpath.solver.elements.taper`), so ``M`` is symmetric positive definite; as
+``A = C^T R C + jw C^T L C``, the preconditioned spectrum sits near the arc of
+``(r + j w l) / (r + w l)``, in the right half-plane at every frequency. ``C^T R C`` and
+``C^T L_t C`` are formed once for the sweep; entries of ``C^T L_t C`` weaker than :data:`KEEP` of
+the geometric mean of their two diagonal entries are dropped, which thins the factor several
+times at little cost in iterations. Measured on a four-layer section (19.8k unknowns, 6,448
+loops; DEVELOPERS.md): the untapered near part was indefinite and needed 110 iterations at
+100 MHz (42-46 with a diagonal shift, 64 kept entries per loop, complex LU); the tapered one 22
+with 20 entries per loop and a real LU, about a hundred times less preconditioner time.
 Vertex loops are local magnetic dipoles whose far couplings decay like ``1/r^3``, so the
 near part captures most of ``A``; the few long loops (around holes, through vias and lumped
 branches) add a few outlying eigenvalues, which GMRES removes in a few iterations each.
@@ -27,10 +29,8 @@ import numpy as np
 import scipy.sparse as sp
 import scipy.sparse.linalg as spla
 
-#: Relative strength below which entries of ``C^T L_near C`` leave the preconditioner.
+#: Relative strength below which entries of ``C^T L_t C`` leave the preconditioner.
 KEEP = 0.01
-#: Fraction of its diagonal added to ``C^T L_near C`` in the preconditioner.
-SHIFT = 0.2
 #: Krylov vectors per GMRES cycle.
 RESTART = 100
 #: Restart cycles before GMRES gives up.
@@ -63,8 +63,8 @@ class KrylovLoopSolver:
         ``L @ X`` and ``near()`` (:class:`copperpath.solver.solve.system.InductanceOperator`), henry.
     rtol : float
         Relative residual ``|b - A x| / |b|`` to reach.
-    keep, shift, restart, max_cycles : optional
-        See :data:`KEEP`, :data:`SHIFT`, :data:`RESTART`, :data:`MAX_CYCLES`.
+    keep, restart, max_cycles : optional
+        See :data:`KEEP`, :data:`RESTART`, :data:`MAX_CYCLES`.
 
     Attributes
     ----------
@@ -74,15 +74,13 @@ class KrylovLoopSolver:
         Relative residual reached by every solve.
     """
 
-    def __init__(self, C, R, L, rtol, *, keep=KEEP, shift=SHIFT, restart=RESTART,
-                 max_cycles=MAX_CYCLES):
+    def __init__(self, C, R, L, rtol, *, keep=KEEP, restart=RESTART, max_cycles=MAX_CYCLES):
         self.C = sp.csc_matrix(C)
         self.Ct = self.C.T.tocsr()
         self.R, self.L, self.rtol = sp.csr_matrix(R), L, float(rtol)
         self.restart, self.max_cycles = int(restart), int(max_cycles)
         self.Rc = (self.Ct @ self.R @ self.C).tocsc()
-        near = strong_part(self.Ct @ sp.csr_matrix(L.near()) @ self.C, keep)
-        self.Lnc = (near + shift * sp.diags(near.diagonal())).tocsc()
+        self.Lnc = strong_part(self.Ct @ sp.csr_matrix(L.near(taper=True)) @ self.C, keep)
         self.iterations, self.residuals = [], []
 
     @property
@@ -95,10 +93,14 @@ class KrylovLoopSolver:
         return self.Ct @ (self.R @ i + 1j * w * (self.L @ i))
 
     def factor(self, w):
-        """The preconditioner at ``w``: ``v -> M(w)^-1 v`` by a complex sparse LU of
-        ``M(w) = C^T R C + jw (C^T L_near C + SHIFT diag)``."""
-        lu = spla.splu((self.Rc + 1j * w * self.Lnc).tocsc(), permc_spec="MMD_AT_PLUS_A")
-        return lu.solve
+        """The preconditioner at ``w``: ``v -> M(w)^-1 v`` by a real sparse LU of
+        ``M(w) = C^T R C + w C^T L_t C``, applied to ``Re v`` and ``Im v``."""
+        lu = spla.splu((self.Rc + w * self.Lnc).tocsc(), permc_spec="MMD_AT_PLUS_A")
+
+        def solve(v):
+            y = lu.solve(np.column_stack([v.real, v.imag]))
+            return y[:, 0] + 1j * y[:, 1]
+        return solve
 
     def __call__(self, w, b):
         """Solve ``A(w) x = b`` for every column of ``b`` (n, P).
@@ -127,7 +129,7 @@ class KrylovLoopSolver:
             def tick(_, count=count):
                 count[0] += 1
 
-            x[:, j], info = spla.gmres(op, rhs, x0=psolve(rhs), rtol=self.rtol, atol=0.0,
+            x[:, j], info = spla.gmres(op, rhs, rtol=self.rtol, atol=0.0,
                                        restart=self.restart, maxiter=self.max_cycles, M=pre,
                                        callback=tick, callback_type="pr_norm")
             res = float(np.linalg.norm(rhs - op @ x[:, j]) / norm)

@@ -59,7 +59,7 @@ class InductanceOperator:
         self.barrel_block = np.asarray(barrel_block, float)
         self.lumped_index = np.asarray(lumped_index, np.int64)
         self.lumped_inductance = np.asarray(lumped_inductance, float)
-        self._near = None
+        self._near = {}
 
     @property
     def shape(self):
@@ -90,10 +90,11 @@ class InductanceOperator:
         d[self.lumped_index] += self.lumped_inductance
         return d
 
-    def near(self):
-        """Sparse near-field part of ``L`` (csr, symmetric): the sheet's near entries, the
-        barrel block and the lumped diagonal. Formed once and kept."""
-        if self._near is None:
+    def near(self, taper=False):
+        """Sparse near-field part of ``L`` (csr, symmetric): the sheet's near entries (with
+        ``taper``, weighted to a positive-definite matrix: :mod:`copperpath.solver.elements.taper`),
+        the barrel block and the lumped diagonal. Formed once per ``taper`` and kept."""
+        if taper not in self._near:
             n = self.shape[0]
             bar = self.barrel_index
             rows = np.concatenate([np.repeat(bar, len(bar)), self.lumped_index])
@@ -101,9 +102,9 @@ class InductanceOperator:
             vals = np.concatenate([self.barrel_block.ravel(), self.lumped_inductance])
             extra = sp.csr_matrix((vals, (rows, cols)), shape=(n, n))
             if self.sheet is not None:
-                extra = extra + sp.csr_matrix(self.sheet.near())
-            self._near = extra.tocsr()
-        return self._near
+                extra = extra + sp.csr_matrix(self.sheet.near(taper=taper))
+            self._near[taper] = extra.tocsr()
+        return self._near[taper]
 
     def __repr__(self):
         return f"InductanceOperator({self.shape[0]} branches, {self.nbytes / 2**20:.1f} MiB)"
