@@ -143,6 +143,9 @@ class _NoDense:
     def near(self, taper=False):
         return self.inner.near(taper=taper)
 
+    def positions(self):
+        return self.inner.positions()
+
 
 def test_nothing_dense_on_the_fast_path_and_outputs_are_written(tmp_path):
     from copperpath.solver.output.outputs import write_outputs

@@ -142,6 +142,11 @@ class SheetOperator:
         """Near radius of the correction (3-D centroid distance), metres."""
         return self.accuracy.near_spacings * self.spacing
 
+    def positions(self):
+        """Branch positions (B, 3), metres: mean centroid of each branch's triangles (NaN for
+        branches with no half)."""
+        return self._pos
+
     def near(self, taper=False):
         """Exact partial inductances of the near branch pairs, ``scipy.sparse.csr_matrix`` (B, B).
 

@@ -46,10 +46,10 @@ def branch_positions(cent, zmid, h_tri, h_branch, n_branches):
     Returns
     -------
     ndarray, shape (B, 3)
-        Zero for branches with no half.
+        NaN for branches with no half.
     """
     cnt = np.bincount(h_branch, minlength=n_branches).astype(float)
-    cnt[cnt == 0] = 1.0
+    cnt[cnt == 0] = np.nan
     xyz = np.column_stack([cent[h_tri], zmid[h_tri]])
     return np.column_stack([np.bincount(h_branch, xyz[:, k], n_branches)
                             for k in range(3)]) / cnt[:, None]

@@ -57,13 +57,13 @@ class DenseSheetOperator:
         Henry.
     pattern : scipy.sparse.csr_matrix of bool, shape (B, B)
         Near pattern (see :func:`near_branch_pattern`).
-    positions : ndarray, shape (B, 3), optional
-        Branch positions (metres) for ``near(taper=True)``.
-    near_radius : float, optional
+    positions : ndarray, shape (B, 3)
+        Branch positions (metres, NaN off the sheets).
+    near_radius : float
         Support of the taper, metres.
     """
 
-    def __init__(self, matrix, pattern, positions=None, near_radius=None):
+    def __init__(self, matrix, pattern, positions, near_radius):
         self._matrix = matrix
         self._pos, self.near_radius = positions, near_radius
         coo = pattern.tocoo()
@@ -89,12 +89,11 @@ class DenseSheetOperator:
     def diagonal(self):
         return np.diag(self._matrix).copy()
 
+    def positions(self):
+        return self._pos
+
     def near(self, taper=False):
-        if not taper:
-            return self._near
-        if self._pos is None:
-            raise ValueError("near(taper=True) needs the branch positions and the near radius")
-        return taper_mod.tapered(self._near, self._pos, self.near_radius)
+        return taper_mod.tapered(self._near, self._pos, self.near_radius) if taper else self._near
 
 
 def build_dense_sheet_operator(points, triangles, tri_z, half_branch, half_tri, half_vertex,

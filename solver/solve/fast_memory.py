@@ -7,14 +7,16 @@ checked above 66k unknowns.
 """
 from __future__ import annotations
 
+from copperpath.solver.solve.coarse import CHUNK, TARGET_AGGREGATES
 from copperpath.solver.solve.krylov import RESTART
 
 #: Bytes of the compressed sheet operator per current unknown (grids, near-pair corrections).
 SHEET_BYTES_PER_BRANCH = 5000
 #: Nonzeros per row of the near-field part ``L_near`` (branches).
 NEAR_NNZ_PER_BRANCH = 300
-#: Nonzeros per loop of the kept preconditioner matrix and fill of its sparse LU (loops).
-PRECOND_NNZ_PER_LOOP = 80
+#: Nonzeros per loop of the kept (tapered) preconditioner matrix and fill of its sparse LU
+#: (loops; 18-20 measured on the four-layer section).
+PRECOND_NNZ_PER_LOOP = 30
 LU_FILL = 16
 
 
@@ -30,15 +32,18 @@ def estimate_fast_memory(n_branches, n_loops, n_ports=1, n_freqs=1, *, keep_curr
     Returns
     -------
     int
-        Sheet operator, the near-field part (real csr, 12 B per entry), the loop preconditioner
-        and its complex LU (24 B per entry), the GMRES basis (16 B per vector entry), a few
-        complex work vectors per port and the stored currents (16 F P B, twice with potentials).
+        Sheet operator, the near-field part and its tapered copy (real csr, 12 B per entry each),
+        the loop preconditioner and its real LU (12 B per entry), the coarse space (``C^T L C
+        P``, 8 B per loop and aggregate, and one chunk of ``C P`` and ``L C P``), the GMRES
+        basis (16 B per vector entry), a few complex work vectors per port and the stored
+        currents (16 F P B, twice with potentials).
     """
     b, n, p = int(n_branches), int(n_loops), max(int(n_ports), 1)
     sheet = SHEET_BYTES_PER_BRANCH * b
-    near = 12 * NEAR_NNZ_PER_BRANCH * b
-    precond = 12 * PRECOND_NNZ_PER_LOOP * n + 24 * LU_FILL * PRECOND_NNZ_PER_LOOP * n
+    near = 2 * 12 * NEAR_NNZ_PER_BRANCH * b
+    precond = 12 * PRECOND_NNZ_PER_LOOP * n + 12 * LU_FILL * PRECOND_NNZ_PER_LOOP * n
+    coarse = 8 * TARGET_AGGREGATES * n + 2 * 8 * CHUNK * b
     krylov = 16 * (RESTART + 4) * n
     work = 16 * 6 * p * b
     stored = 16 * 2 * n_freqs * p * b if keep_currents else 0
-    return int(sheet + near + precond + krylov + work + stored)
+    return int(sheet + near + precond + coarse + krylov + work + stored)

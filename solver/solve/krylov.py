@@ -19,6 +19,8 @@ times at little cost in iterations. Measured on a four-layer section (19.8k unkn
 loops; DEVELOPERS.md): the untapered near part was indefinite and needed 110 iterations at
 100 MHz (42-46 with a diagonal shift, 64 kept entries per loop, complex LU); the tapered one 22
 with 20 entries per loop and a real LU, about a hundred times less preconditioner time.
+A coarse correction (:mod:`copperpath.solver.solve.coarse`) handles the smooth loop-current
+patterns the near part misses, which keeps the iterations from growing with the mesh.
 Vertex loops are local magnetic dipoles whose far couplings decay like ``1/r^3``, so the
 near part captures most of ``A``; the few long loops (around holes, through vias and lumped
 branches) add a few outlying eigenvalues, which GMRES removes in a few iterations each.
@@ -29,12 +31,18 @@ import numpy as np
 import scipy.sparse as sp
 import scipy.sparse.linalg as spla
 
+from copperpath.solver.solve.coarse import CoarseSpace
+
 #: Relative strength below which entries of ``C^T L_t C`` leave the preconditioner.
 KEEP = 0.01
 #: Krylov vectors per GMRES cycle.
 RESTART = 100
 #: Restart cycles before GMRES gives up.
 MAX_CYCLES = 10
+#: Loops from which the coarse correction is added. Its set-up costs one product of ``L`` per
+#: aggregate; at 14.5k loops (44.5k unknowns) it cut the iterations from 20-52 to 15-28 but its
+#: 85 s set-up outweighed the 11 s saved over four frequencies (DEVELOPERS.md).
+COARSE_MIN_LOOPS = 30000
 
 
 def strong_part(A, keep):
@@ -65,6 +73,9 @@ class KrylovLoopSolver:
         Relative residual ``|b - A x| / |b|`` to reach.
     keep, restart, max_cycles : optional
         See :data:`KEEP`, :data:`RESTART`, :data:`MAX_CYCLES`.
+    coarse : bool, optional
+        Add the coarse correction (:class:`copperpath.solver.solve.coarse.CoarseSpace`);
+        default: from :data:`COARSE_MIN_LOOPS` loops on.
 
     Attributes
     ----------
@@ -74,13 +85,20 @@ class KrylovLoopSolver:
         Relative residual reached by every solve.
     """
 
-    def __init__(self, C, R, L, rtol, *, keep=KEEP, restart=RESTART, max_cycles=MAX_CYCLES):
+    def __init__(self, C, R, L, rtol, *, keep=KEEP, restart=RESTART, max_cycles=MAX_CYCLES,
+                 coarse=None):
         self.C = sp.csc_matrix(C)
         self.Ct = self.C.T.tocsr()
         self.R, self.L, self.rtol = sp.csr_matrix(R), L, float(rtol)
         self.restart, self.max_cycles = int(restart), int(max_cycles)
         self.Rc = (self.Ct @ self.R @ self.C).tocsc()
         self.Lnc = strong_part(self.Ct @ sp.csr_matrix(L.near(taper=True)) @ self.C, keep)
+        if coarse is None:
+            coarse = self.C.shape[1] >= COARSE_MIN_LOOPS
+        self.coarse = CoarseSpace(self.C, self.Rc, L, L.positions()) if coarse else None
+        # R / L of a typical loop (1/s): where the loops turn from resistive to inductive
+        d = self.Lnc.diagonal()
+        self.rate = float(np.median(self.Rc.diagonal()[d > 0] / d[d > 0])) if (d > 0).any() else 0.0
         self.iterations, self.residuals = [], []
 
     @property
@@ -94,13 +112,24 @@ class KrylovLoopSolver:
 
     def factor(self, w):
         """The preconditioner at ``w``: ``v -> M(w)^-1 v`` by a real sparse LU of
-        ``M(w) = C^T R C + w C^T L_t C``, applied to ``Re v`` and ``Im v``."""
+        ``M(w) = C^T R C + w C^T L_t C``, applied to ``Re v`` and ``Im v``, within the coarse
+        correction when there is one."""
         lu = spla.splu((self.Rc + w * self.Lnc).tocsc(), permc_spec="MMD_AT_PLUS_A")
 
-        def solve(v):
+        if self.coarse is None:
+            def solve(v):
+                y = lu.solve(np.column_stack([v.real, v.imag]))
+                return y[:, 0] + 1j * y[:, 1]
+            return solve
+        # Within the coarse correction the smoother must also carry the phase of A^-1: the
+        # coarse part is exact, a real M^-1 alone would be off by up to 90 degrees at high
+        # frequency and split the spectrum into two clusters.
+        alpha = (self.rate + w) / (self.rate + 1j * w)
+
+        def smooth(v):
             y = lu.solve(np.column_stack([v.real, v.imag]))
-            return y[:, 0] + 1j * y[:, 1]
-        return solve
+            return alpha * (y[:, 0] + 1j * y[:, 1])
+        return self.coarse.precondition(w, smooth)
 
     def __call__(self, w, b):
         """Solve ``A(w) x = b`` for every column of ``b`` (n, P).

@@ -200,6 +200,7 @@ def solve(system, frequencies, *, title="", keep_currents=True, progress=None,
         "method": method,
         "gmres_iterations": krylov.iterations if krylov is not None else [],
         "gmres_residuals": krylov.residuals if krylov is not None else [],
+        "coarse_size": krylov.coarse.size if krylov is not None and krylov.coarse else 0,
         "checks": {
             "min_port_resistance_ohm": float(diag.real.min()) if diag.size else None,
             "max_reciprocity_error": float(np.abs(Z - Z.transpose(0, 2, 1)).max()

@@ -90,6 +90,12 @@ class InductanceOperator:
         d[self.lumped_index] += self.lumped_inductance
         return d
 
+    def positions(self):
+        """Branch positions (B, 3) in metres, NaN except on sheet branches."""
+        if self.sheet is None:
+            return np.full((self.n_branches, 3), np.nan)
+        return np.asarray(self.sheet.positions(), float)
+
     def near(self, taper=False):
         """Sparse near-field part of ``L`` (csr, symmetric): the sheet's near entries (with
         ``taper``, weighted to a positive-definite matrix: :mod:`copperpath.solver.elements.taper`),
