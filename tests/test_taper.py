@@ -11,7 +11,6 @@ from memory) is exact when the coarse space is the whole space.
 import numpy as np
 import scipy.sparse as sp
 
-from copperpath.geometry.meshing import triangulate
 from copperpath.solver.elements.pfft import build_sheet_operator
 from copperpath.solver.elements.taper import tapered, wendland
 from copperpath.solver.solve import coarse
