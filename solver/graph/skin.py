@@ -85,7 +85,7 @@ def auto_sublayers(layer, f_max):
     return MAX_SUBLAYERS
 
 
-def choose_sublayers(layers, edge_counts, f_max, other_unknowns=0, budget=AUTO_UNKNOWN_BUDGET):
+def choose_sublayers(layers, edge_counts, f_max, other_unknowns=0, budget=None):
     """Sublayers of every layer: the layer's own integer, or the ``"auto"`` choice.
 
     Parameters
@@ -97,14 +97,16 @@ def choose_sublayers(layers, edge_counts, f_max, other_unknowns=0, budget=AUTO_U
         Highest solved frequency, Hz.
     other_unknowns : int
         Barrel and lumped branches.
-    budget : int
-        Current unknowns that ``"auto"`` may reach; above it every ``"auto"`` layer is held to
-        one fewer sublayer at a time (8, 7, ..., 3, then 1); a user's integer never changes.
+    budget : int, optional
+        Current unknowns that ``"auto"`` may reach (``AUTO_UNKNOWN_BUDGET`` when not given);
+        above it every ``"auto"`` layer is held to one fewer sublayer at a time (8, 7, ..., 3,
+        then 1); a user's integer never changes.
 
     Returns
     -------
     list of int
     """
+    budget = AUTO_UNKNOWN_BUDGET if budget is None else budget
     auto = [not isinstance(la.sublayers, int) for la in layers]
     n = [auto_sublayers(la, f_max) if a else la.sublayers for la, a in zip(layers, auto)]
 
