@@ -35,6 +35,8 @@ import shapely
 from copperpath.geometry.model import Layout, MeshOptions
 
 MU0 = 4e-7 * math.pi
+MIN_PER_SCALE = 2.0
+"""``min_edge`` as a multiple of ``s``; the facing edges get ``FACING_FRACTION`` of it."""
 MAX_PER_SCALE = 10.0
 """``max_edge`` as a multiple of the edge length ``s`` where the current crowds."""
 MAX_EDGE_CAP = 2e-3
@@ -117,11 +119,11 @@ def default_mesh(layout: Layout, f_max: float, unit_scale: float = 1e-3, unit: s
         source = f"the narrowest trace {q(w)} (no return copper on a neighbouring layer)"
     h = min(gap, w)
     s = min(h, 0.25 * w)
-    max_edge = max(2.0 * s, min(MAX_PER_SCALE * s, MAX_EDGE_CAP))
+    max_edge = max(MIN_PER_SCALE * s, min(MAX_PER_SCALE * s, MAX_EDGE_CAP))
     f_c = crowding_frequency(layout, h)
     crowded = f_max > f_c
     if crowded:
-        min_edge = 2.0 * s
+        min_edge = MIN_PER_SCALE * s
         how = (f"the current crowds above {f_c:.3g} Hz (skin depth sqrt(2 t h)), below the top "
                f"frequency {f_max:.3g} Hz: {q(s)} = min(height, width / 4) on copper edges that "
                f"face another layer and on the copper under them, min_edge 2 x, max_edge "

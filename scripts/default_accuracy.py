@@ -39,7 +39,7 @@ from tests.validation.strip_case import H, T, W, case_text
 F = 1e8
 
 
-def solve_length(length, folder, count=False, **kw):
+def solve_length(length, folder, count=False, method=None, **kw):
     """(L, R at DC and 100 MHz, unknowns, triangles, case, solution) of one strip length; with
     ``count`` only the mesh and its unknowns (L, R and the solution ``None``)."""
     import copperpath
@@ -54,7 +54,7 @@ def solve_length(length, folder, count=False, **kw):
         mesh = triangulate(case.layout, case.mesh)
         net = build_network(mesh, case.layout, f_max=F)
         return None, None, net.n_branches, mesh.n_triangles, case, None
-    sol = copperpath.solve(case)
+    sol = copperpath.solve(case, method=method)
     return (sol.result.inductance[:, 0, 0], sol.result.resistance[:, 0, 0],
             sol.system.network.n_branches, sol.mesh.n_triangles, case, sol)
 
@@ -70,6 +70,8 @@ def _override(args):
 
     if args.grading is not None:
         mesh_defaults.GRADING = args.grading
+    if args.min_per_scale is not None:
+        mesh_defaults.MIN_PER_SCALE = args.min_per_scale
     if args.max_per_scale is not None:
         mesh_defaults.MAX_PER_SCALE = args.max_per_scale
     if args.budget is not None:
@@ -84,6 +86,8 @@ def main(argv=None):
     p.add_argument("--lengths", type=float, nargs=2, default=[20.0, 30.0])
     p.add_argument("--grading", type=float)
     p.add_argument("--max-per-scale", type=float)
+    p.add_argument("--min-per-scale", type=float)
+    p.add_argument("--method", choices=["auto", "dense", "fast"])
     p.add_argument("--budget", type=int)
     p.add_argument("--count", action="store_true", help="mesh and count only")
     args = p.parse_args(argv)
@@ -93,7 +97,7 @@ def main(argv=None):
     with tempfile.TemporaryDirectory() as folder:
         for length in args.lengths:
             t = time.perf_counter()
-            ell, r, n, tris, case, sol = solve_length(length, folder, count=args.count,
+            ell, r, n, tris, case, sol = solve_length(length, folder, count=args.count, method=args.method,
                                                       sublayers=args.sublayers, mesh=mesh)
             line = f"{length:g} mm: {tris} triangles, {n} unknowns"
             if sol is not None:

@@ -17,8 +17,8 @@ choices themselves are in tests/test_defaults.py.
 """
 import pytest
 
+import copperpath
 from copperpath.geometry.case import load_case
-from copperpath.solver.cli import run_case
 from tests.validation.line_formulas import microstrip_inductance_with_skin
 from tests.validation.solver_setups import per_length
 from tests.validation.strip_case import H, T, W, case_text
@@ -35,9 +35,9 @@ def test_default_settings_give_the_microstrip_inductance(tmp_path):
         path.write_text(case_text(length))
         case = load_case(path)
         assert any(n.startswith("[mesh] not given") for n in case.notes)
-        result, _, system, _ = run_case(case, None, quiet=True, write=False)
-        assert min(system.network.layer_sublayers) >= 3          # skin effect resolved
-        ell.append(result.inductance[1, 0, 0])
+        solution = copperpath.solve(case)
+        assert min(solution.system.network.layer_sublayers) >= 3          # skin effect resolved
+        ell.append(solution.result.inductance[1, 0, 0])
     got = per_length(*ell, 20e-3, 30e-3)
     expected = microstrip_inductance_with_skin(W * 1e-3, H * 1e-3, T * 1e-3, 1e8)
     assert got == pytest.approx(expected, rel=0.03)
