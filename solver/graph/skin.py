@@ -13,8 +13,8 @@ three sublayers already read 11 % low at 1.75 times it (outer sublayer 1.32 skin
 ``sublayers = "auto"`` (the case-file default) picks the fewest sublayers (1, then 3 to
 ``MAX_SUBLAYERS``; two equal halves of a lone conductor would carry equal currents) that
 resolve the highest solved frequency, and lowers them again, all ``"auto"`` layers together,
-while the mesh would exceed ``AUTO_UNKNOWN_BUDGET`` current unknowns (the dense path's
-practical size); every layer then left unresolved at a solved frequency where it is thicker
+while the mesh would exceed ``AUTO_UNKNOWN_BUDGET`` current unknowns (sized for the fast
+path); every layer then left unresolved at a solved frequency where it is thicker
 than two skin depths is named in a warning.
 """
 from __future__ import annotations
@@ -30,8 +30,10 @@ RESOLVED_OUTER = 1.0
 """Outer sublayer thickness, in skin depths, up to which skin effect counts as resolved."""
 MAX_SUBLAYERS = 8
 """Most sublayers ``"auto"`` gives a layer."""
-AUTO_UNKNOWN_BUDGET = 20_000
-"""Current unknowns that ``"auto"`` sublayers may raise a mesh to (dense L: about 3.2 GB)."""
+AUTO_UNKNOWN_BUDGET = 60_000
+"""Current unknowns that ``"auto"`` sublayers may raise a mesh to (sized for the fast path: a
+strip over a plane peaked at 3.2 GB with 32k; its default mesh at 30 mm with four sublayers has
+53k, DEVELOPERS.md, "Accuracy at default settings")."""
 WARN_THICKNESS = 2.0
 """An unresolved layer thicker than this many skin depths at a solved frequency is warned about."""
 
