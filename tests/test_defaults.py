@@ -112,7 +112,8 @@ def test_an_explicit_mesh_wins(tmp_path):
     path.write_text(case_text(6.0) + "[mesh]\nmax_edge = 0.6\n")
     case = load_case(path)
     default = _case(tmp_path, "default.toml").mesh                # the missing key from the default
-    assert case.mesh.max_edge == pytest.approx(0.6e-3) and case.mesh.min_edge == pytest.approx(default.min_edge)
+    assert case.mesh.max_edge == pytest.approx(0.6e-3)
+    assert case.mesh.min_edge == pytest.approx(default.min_edge)
     assert "the [mesh] table sets max_edge" in case.notes[-1]
 
 
