@@ -13,7 +13,7 @@ moments check, DEVELOPERS.md), within the tolerance.
 
 The full check needs about 88k unknowns in all and runs for a long time: it is marked slow and
 measured by ``scripts/default_accuracy.py`` (DEVELOPERS.md: at the current default it was
-measured on 6 mm minus 3 mm, +2.36 %; the full 30 / 20 mm run is still to be made). The fast
+measured on 8 mm minus 4 mm, +2.57 %; the full 30 / 20 mm run is still to be made). The fast
 tests of the choices themselves are in tests/test_defaults.py.
 """
 import pytest
