@@ -3,14 +3,16 @@
 At high frequency the current of a trace over return copper crowds toward the trace's edges
 and the return current gathers under them, over a width of the order of the height ``h``
 between the copper faces; a narrow trace needs a few triangles across its width ``w``. The
-edge length ``s = min(h, w / 4)`` goes where the current crowds, and sets the rest (measured in
-``scripts/default_accuracy.py``, see DEVELOPERS.md):
+scale ``s = min(h, w / 4)`` sets the sizes (measured in ``scripts/default_accuracy.py``, see
+DEVELOPERS.md, "Accuracy at default settings"):
 
 - on copper edges that face a neighbouring layer's copper and on the copper under the edges of
-  a neighbouring layer's copper: ``s`` (``FACING_FRACTION * min_edge`` in
-  :mod:`copperpath.geometry.meshing`, with ``MeshOptions.under_edges``);
-- ``min_edge = 2 s`` at terminals and re-entrant corners (and the start of the width rule: a
-  trace is at least two triangles across);
+  a neighbouring layer's copper, where the current density is singular: ``s / 2``
+  (``FACING_FRACTION * min_edge`` in :mod:`copperpath.geometry.meshing`, with
+  ``MeshOptions.under_edges``); the edge length there is what sets the error of ``L`` at high
+  frequency (about linear in it), far more than the sizes away from the edges;
+- ``min_edge = MIN_PER_SCALE * s`` at terminals and re-entrant corners (and the start of the
+  width rule: a trace is at least two triangles across);
 - ``max_edge = MAX_PER_SCALE * s``, at most ``MAX_EDGE_CAP``;
 - growth ``GRADING`` per unit distance away from those features (the mesher's own is 0.4):
   the current density falls off over a few ``h``, and sublayers multiply every triangle.
@@ -32,9 +34,12 @@ import math
 
 import shapely
 
+from copperpath.geometry.meshing import FACING_FRACTION
 from copperpath.geometry.model import Layout, MeshOptions
 
 MU0 = 4e-7 * math.pi
+MIN_PER_SCALE = 1.0
+"""``min_edge`` as a multiple of ``s``; the facing edges get ``FACING_FRACTION`` of it."""
 MAX_PER_SCALE = 10.0
 """``max_edge`` as a multiple of the edge length ``s`` where the current crowds."""
 MAX_EDGE_CAP = 2e-3
@@ -117,15 +122,16 @@ def default_mesh(layout: Layout, f_max: float, unit_scale: float = 1e-3, unit: s
         source = f"the narrowest trace {q(w)} (no return copper on a neighbouring layer)"
     h = min(gap, w)
     s = min(h, 0.25 * w)
-    max_edge = max(2.0 * s, min(MAX_PER_SCALE * s, MAX_EDGE_CAP))
+    max_edge = max(MIN_PER_SCALE * s, min(MAX_PER_SCALE * s, MAX_EDGE_CAP))
     f_c = crowding_frequency(layout, h)
     crowded = f_max > f_c
     if crowded:
-        min_edge = 2.0 * s
+        min_edge = MIN_PER_SCALE * s
         how = (f"the current crowds above {f_c:.3g} Hz (skin depth sqrt(2 t h)), below the top "
-               f"frequency {f_max:.3g} Hz: {q(s)} = min(height, width / 4) on copper edges that "
-               f"face another layer and on the copper under them, min_edge 2 x, max_edge "
-               f"{MAX_PER_SCALE:g} x (at most {q(MAX_EDGE_CAP)}), growth {GRADING:g} per unit length")
+               f"frequency {f_max:.3g} Hz: with s = min(height, width / 4) = {q(s)}, "
+               f"{q(FACING_FRACTION * min_edge)} on copper edges that face another layer and on "
+               f"the copper under them, min_edge {MIN_PER_SCALE:g} s, max_edge {MAX_PER_SCALE:g} s "
+               f"(at most {q(MAX_EDGE_CAP)}), growth {GRADING:g} per unit length")
     else:
         min_edge = max_edge / DC_RATIO
         how = (f"the sweep stays below {f_c:.3g} Hz, where the current starts to crowd: no edge "

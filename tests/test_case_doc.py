@@ -90,5 +90,5 @@ def test_default_mesh_stated_for_the_base_example(tmp_path):
     path = tmp_path / "base.toml"
     path.write_text(BLOCKS[0], encoding="utf-8")
     mesh = reader.load_case(path).mesh
-    assert "`min_edge` 0.4 mm, `max_edge` 2 mm" in DOC
-    assert mesh.min_edge == pytest.approx(0.4e-3) and mesh.max_edge == pytest.approx(2e-3)
+    assert "`min_edge` 0.2 mm, `max_edge` 2 mm" in DOC
+    assert mesh.min_edge == pytest.approx(0.2e-3) and mesh.max_edge == pytest.approx(2e-3)

@@ -13,8 +13,8 @@ three sublayers already read 11 % low at 1.75 times it (outer sublayer 1.32 skin
 ``sublayers = "auto"`` (the case-file default) picks the fewest sublayers (1, then 3 to
 ``MAX_SUBLAYERS``; two equal halves of a lone conductor would carry equal currents) that
 resolve the highest solved frequency, and lowers them again, all ``"auto"`` layers together,
-while the mesh would exceed ``AUTO_UNKNOWN_BUDGET`` current unknowns (the dense path's
-practical size); every layer then left unresolved at a solved frequency where it is thicker
+while the mesh would exceed ``AUTO_UNKNOWN_BUDGET`` current unknowns (sized for the fast
+path); every layer then left unresolved at a solved frequency where it is thicker
 than two skin depths is named in a warning.
 """
 from __future__ import annotations
@@ -30,8 +30,10 @@ RESOLVED_OUTER = 1.0
 """Outer sublayer thickness, in skin depths, up to which skin effect counts as resolved."""
 MAX_SUBLAYERS = 8
 """Most sublayers ``"auto"`` gives a layer."""
-AUTO_UNKNOWN_BUDGET = 20_000
-"""Current unknowns that ``"auto"`` sublayers may raise a mesh to (dense L: about 3.2 GB)."""
+AUTO_UNKNOWN_BUDGET = 60_000
+"""Current unknowns that ``"auto"`` sublayers may raise a mesh to (sized for the fast path: a
+strip over a plane peaked at 3.2 GB with 32k; its default mesh at 30 mm with four sublayers has
+53k, DEVELOPERS.md, "Accuracy at default settings")."""
 WARN_THICKNESS = 2.0
 """An unresolved layer thicker than this many skin depths at a solved frequency is warned about."""
 
@@ -85,7 +87,7 @@ def auto_sublayers(layer, f_max):
     return MAX_SUBLAYERS
 
 
-def choose_sublayers(layers, edge_counts, f_max, other_unknowns=0, budget=AUTO_UNKNOWN_BUDGET):
+def choose_sublayers(layers, edge_counts, f_max, other_unknowns=0, budget=None):
     """Sublayers of every layer: the layer's own integer, or the ``"auto"`` choice.
 
     Parameters
@@ -97,14 +99,16 @@ def choose_sublayers(layers, edge_counts, f_max, other_unknowns=0, budget=AUTO_U
         Highest solved frequency, Hz.
     other_unknowns : int
         Barrel and lumped branches.
-    budget : int
-        Current unknowns that ``"auto"`` may reach; above it every ``"auto"`` layer is held to
-        one fewer sublayer at a time (8, 7, ..., 3, then 1); a user's integer never changes.
+    budget : int, optional
+        Current unknowns that ``"auto"`` may reach (``AUTO_UNKNOWN_BUDGET`` when not given);
+        above it every ``"auto"`` layer is held to one fewer sublayer at a time (8, 7, ..., 3,
+        then 1); a user's integer never changes.
 
     Returns
     -------
     list of int
     """
+    budget = AUTO_UNKNOWN_BUDGET if budget is None else budget
     auto = [not isinstance(la.sublayers, int) for la in layers]
     n = [auto_sublayers(la, f_max) if a else la.sublayers for la, a in zip(layers, auto)]
 
