@@ -2,8 +2,10 @@
 estimated from the unknown counts before anything is assembled.
 
 The coefficients are measured on four-layer board sections (the pFFT table and the
-preconditioner measurements in DEVELOPERS.md, 6k-66k unknowns) and rounded up; they are not yet
-checked above 66k unknowns.
+preconditioner measurements in DEVELOPERS.md, 6k-66k unknowns) and rounded up; against peaks
+measured at 19.8k / 44.5k / 125k unknowns (0.5 / 0.8 / 2.8 GB, the last with maps and report)
+the estimate is 0.4 / 0.9 / 2.6 GB (the process itself, about 0.3 GB, not counted). Not checked
+above 125k unknowns.
 """
 from __future__ import annotations
 
@@ -11,7 +13,7 @@ from copperpath.solver.solve.coarse import CHUNK, TARGET_AGGREGATES
 from copperpath.solver.solve.krylov import RESTART
 
 #: Bytes of the compressed sheet operator per current unknown (grids, near-pair corrections).
-SHEET_BYTES_PER_BRANCH = 5000
+SHEET_BYTES_PER_BRANCH = 10000
 #: Nonzeros per row of the near-field part ``L_near`` (branches).
 NEAR_NNZ_PER_BRANCH = 300
 #: Nonzeros per loop of the kept (tapered) preconditioner matrix and fill of its sparse LU
