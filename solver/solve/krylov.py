@@ -19,8 +19,10 @@ times at little cost in iterations. Measured on a four-layer section (19.8k unkn
 loops; DEVELOPERS.md): the untapered near part was indefinite and needed 110 iterations at
 100 MHz (42-46 with a diagonal shift, 64 kept entries per loop, complex LU); the tapered one 22
 with 20 entries per loop and a real LU, about a hundred times less preconditioner time.
-A coarse correction (:mod:`copperpath.solver.solve.coarse`) handles the smooth loop-current
-patterns the near part misses, which keeps the iterations from growing with the mesh.
+The iterations still grow with the mesh (1 MHz: 22 at 6.4k loops, 52 at 14.5k): smooth patterns
+of loop current couple through the far field the near part misses. From :data:`COARSE_MIN_LOOPS`
+loops on, a coarse correction (:mod:`copperpath.solver.solve.coarse`) handles them (25-28
+iterations up to 14.5k loops in the measurements).
 Vertex loops are local magnetic dipoles whose far couplings decay like ``1/r^3``, so the
 near part captures most of ``A``; the few long loops (around holes, through vias and lumped
 branches) add a few outlying eigenvalues, which GMRES removes in a few iterations each.
