@@ -85,3 +85,17 @@ def test_two_level_correction_is_exact_on_the_whole_space():
     r = np.random.default_rng(2).standard_normal(n) + 0j
     z = cs.precondition(w, lambda v: 1e3 * v)(r)              # any smoother
     np.testing.assert_allclose(A @ z, r, rtol=1e-9, atol=1e-9 * np.abs(r).max())
+
+
+def test_gmres_with_the_coarse_correction_reaches_the_one_level_solution():
+    from copperpath.solver.solve.krylov import KrylovLoopSolver
+
+    system = _fast_via_system()
+    C, R, L = system.basis.loops, system.R, system.L
+    w = 2 * np.pi * 1e8
+    b = np.asarray(C.T @ (R @ system.port_paths + 1j * w * (L @ system.port_paths.toarray())))
+    one = KrylovLoopSolver(C, R, L, 1e-7, coarse=False)
+    two = KrylovLoopSolver(C, R, L, 1e-7, coarse=True)
+    assert two.coarse is not None and 1 < two.coarse.size < C.shape[1] / 4
+    x1, x2 = one(w, b), two(w, b)
+    np.testing.assert_allclose(x2, x1, rtol=1e-4, atol=1e-4 * np.abs(x1).max())

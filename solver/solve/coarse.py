@@ -66,9 +66,9 @@ def aggregates(C, positions, target):
         pos = pos / on_sheet[:, None]
     n_branch = np.diff(C.indptr)
     own = (n_branch > LONG_LOOP) | (on_sheet == 0)
-    key = np.full(n, -1, np.int64)
     local = ~own
     target = min(int(target), int(local.sum()) // MIN_LOOPS_PER_AGGREGATE)
+    key = np.zeros(0, np.int64)
     if local.any():
         xy = pos[local, :2]
         lo, hi = xy.min(axis=0), xy.max(axis=0)
@@ -79,8 +79,8 @@ def aggregates(C, positions, target):
         ij = np.floor((xy - lo) / cell).astype(np.int64)
         ny = int(ij[:, 1].max()) + 1
         nx = int(ij[:, 0].max()) + 1
-        key[local] = (plane.ravel() * nx + ij[:, 0]) * ny + ij[:, 1]
-    _, agg = np.unique(key[local], return_inverse=True)
+        key = (plane.ravel() * nx + ij[:, 0]) * ny + ij[:, 1]
+    _, agg = np.unique(key, return_inverse=True)
     out = np.empty(n, np.int64)
     m = int(agg.max()) + 1 if local.any() else 0
     out[local] = agg.ravel()

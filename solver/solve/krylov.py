@@ -118,20 +118,16 @@ class KrylovLoopSolver:
         correction when there is one."""
         lu = spla.splu((self.Rc + w * self.Lnc).tocsc(), permc_spec="MMD_AT_PLUS_A")
 
+        def solve(v):
+            y = lu.solve(np.column_stack([v.real, v.imag]))
+            return y[:, 0] + 1j * y[:, 1]
         if self.coarse is None:
-            def solve(v):
-                y = lu.solve(np.column_stack([v.real, v.imag]))
-                return y[:, 0] + 1j * y[:, 1]
             return solve
         # Within the coarse correction the smoother must also carry the phase of A^-1: the
         # coarse part is exact, a real M^-1 alone would be off by up to 90 degrees at high
         # frequency and split the spectrum into two clusters.
         alpha = (self.rate + w) / (self.rate + 1j * w)
-
-        def smooth(v):
-            y = lu.solve(np.column_stack([v.real, v.imag]))
-            return alpha * (y[:, 0] + 1j * y[:, 1])
-        return self.coarse.precondition(w, smooth)
+        return self.coarse.precondition(w, lambda v: alpha * solve(v))
 
     def __call__(self, w, b):
         """Solve ``A(w) x = b`` for every column of ``b`` (n, P).
