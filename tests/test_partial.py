@@ -109,16 +109,22 @@ def _irregular(max_area):
 
 
 @pytest.mark.parametrize("max_area,parity", [(2.5e-7, 1), (2e-7, 0)])
-@pytest.mark.parametrize("near", ["all", "self only"])
+@pytest.mark.parametrize("near", ["all", "all, smooth pairs", "self only"])
 def test_pair_once_assembly_matches_half_by_half_sum(monkeypatch, max_area, parity, near):
     # every unordered triangle pair is visited exactly once (odd and even triangle counts, the
     # near table and the far loop): the matrix equals the plain sum over all half pairs of
-    # pair moments computed here one by one with the same rules
+    # pair moments computed here one by one with the same rules; with "smooth pairs" the near
+    # pairs sharing no vertex and at least SMOOTH_SEPARATION diameters apart (distance by
+    # shapely) take product Gauss
+    from shapely.geometry import Polygon
+
     from copperpath.solver.elements import partial
     from copperpath.solver.elements.kernels import pair_params
     from copperpath.solver.elements.quadrature import far_moments, near_moments, triangle_rule
 
-    monkeypatch.setattr(partial, "NEAR_FACTOR", 100.0 if near == "all" else 0.0)
+    monkeypatch.setattr(partial, "NEAR_FACTOR", 0.0 if near == "self only" else 100.0)
+    # (0.4999: this mesh has pairs exactly half a diameter apart, a tie within rounding)
+    monkeypatch.setattr(partial, "SMOOTH_SEPARATION", 0.4999 if near == "all, smooth pairs" else np.inf)
     monkeypatch.setattr(partial, "FAR_LEVELS", ((np.inf, 6),))
     pts, tris = _irregular(max_area)
     assert len(tris) % 2 == parity
@@ -135,14 +141,20 @@ def test_pair_once_assembly_matches_half_by_half_sum(monkeypatch, max_area, pari
     par = pair_params(*z, *z)
     bary6, w6 = triangle_rule(6)
     ref = np.zeros_like(L)
+    n_smooth = 0
     for i in range(n):
         for j in range(i, n):
             step = (j - i) % n
             # the pair's owner goes first (its outer rule)
             a, b = (j, i) if 2 * step > n or (2 * step == n and i > j) else (i, j)
             mom = np.empty(6)
-            if a == b or near == "all":
-                c = min(2, len(set(tris[a]) & set(tris[b])))
+            c = min(2, len(set(tris[a]) & set(tris[b])))
+            diam = max(np.linalg.norm(verts[t] - verts[t][[1, 2, 0]], axis=1).max() for t in (a, b))
+            smooth = (near == "all, smooth pairs" and c == 0 and Polygon(verts[a]).distance(
+                Polygon(verts[b])) >= partial.SMOOTH_SEPARATION * diam)
+            if smooth:
+                n_smooth += 1
+            if (a == b or near != "self only") and not smooth:
                 near_moments(verts[a], *cent[a], area[a], verts[b], *cent[b], par,
                              obary[c, :nrule[c]], ow[c, :nrule[c]], glx, glw, partial.W_PANEL, mom)
             else:
@@ -156,6 +168,7 @@ def test_pair_once_assembly_matches_half_by_half_sum(monkeypatch, max_area, pari
                     ref[hb[h], hb[k]] += val
                     ref[hb[k], hb[h]] += val
     np.testing.assert_allclose(L, 1e-7 * ref, rtol=1e-10, atol=1e-12 * np.abs(L).max())
+    assert (n_smooth > n) == (near == "all, smooth pairs")  # a good share of the pairs
 
 
 def test_colouring_separates_triangles_of_a_branch():

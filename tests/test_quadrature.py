@@ -95,3 +95,25 @@ def test_far_rule_matches_near_rule_far_away():
     ref = pair_moments(TA, tb, z, z, degree=6)
     far = pair_moments(TA, tb, z, z, method="far", degree=4)
     np.testing.assert_allclose(far, ref, rtol=1e-6, atol=1e-9 * abs(ref).max())
+
+
+def test_triangle_distance_matches_shapely():
+    # smallest distance between two triangles (0 where they overlap) against shapely's
+    # polygon distance (GEOS), on random counter-clockwise triangles, disjoint and overlapping
+    from shapely.geometry import Polygon
+
+    from copperpath.solver.elements.quadrature import triangle_distance
+
+    rng = np.random.default_rng(3)
+    n_zero = 0
+    for _ in range(400):
+        t = rng.uniform(0, 1, (2, 3, 2))
+        t[1] += rng.uniform(-1.0, 1.5, 2)
+        for k in range(2):
+            d1, d2 = t[k, 1] - t[k, 0], t[k, 2] - t[k, 0]
+            if d1[0] * d2[1] - d1[1] * d2[0] < 0:
+                t[k] = t[k, ::-1]
+        ref = Polygon(t[0]).distance(Polygon(t[1]))
+        n_zero += ref == 0.0
+        assert triangle_distance(t[0], t[1]) == pytest.approx(ref, abs=1e-12)
+    assert 20 < n_zero < 380

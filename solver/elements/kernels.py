@@ -53,8 +53,8 @@ SWITCH_THICKNESSES = 20.0
 
 # Layout of the pair-parameter vector: the four corners, constants, then the merged corners.
 _U0, _U1, _U2, _U3, _INV_TT, _D, _M2, _M4, _M6, _RSW2, _OVERLAP, _NC = range(12)
-_CU, _CC = 12, 16
-N_PAIR_PARAMS = 20
+_CU, _CC, _GAP = 12, 16, 20
+N_PAIR_PARAMS = 21
 _SIGNS = (1.0, -1.0, -1.0, 1.0)
 
 
@@ -72,7 +72,8 @@ def pair_params(a0, a1, b0, b1):
         Corner offsets ``u_i`` (m), ``1/(ta tb)`` (m^-2), centre offset ``d`` (m), the
         moments ``<s^2>, <s^4>, <s^6>``, the squared switch radius (m^2), an overlap flag,
         and the corners merged by ``|u_i|`` (the corner terms are even in ``u``): their
-        number, up to four ``|u|`` (m) and up to four summed signs.
+        number, up to four ``|u|`` (m) and up to four summed signs; last the vertical gap
+        between the two conductors (m, 0 where they overlap or touch, :func:`pair_gap`).
     """
     ta, tb = a1 - a0, b1 - b0
     if not (ta > 0 and tb > 0):
@@ -99,7 +100,14 @@ def pair_params(a0, a1, b0, b1):
     p[_CU:_CC + 4] = 0.0
     for i, (u, c) in enumerate(corners):
         p[_CU + i], p[_CC + i] = u, c
+    p[_GAP] = max(0.0, max(a0, b0) - min(a1, b1))
     return p
+
+
+@njit(cache=True)
+def pair_gap(par):
+    """Vertical gap between the two conductors of ``par`` in metres (0 if they overlap or touch)."""
+    return par[_GAP]
 
 
 @njit(cache=True, fastmath=FASTMATH)

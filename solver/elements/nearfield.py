@@ -7,9 +7,10 @@ the triangles. For the near pairs listed here (centroid distance in 3-D below a 
 :mod:`copperpath.solver.elements.quadrature`:
 
 - the exact moments, by the same rule the dense :func:`copperpath.solver.elements.partial.inductance_matrix` uses
-  (polar near-field quadrature inside :data:`copperpath.solver.elements.partial.NEAR_FACTOR` diameters, product
-  Gauss of the distance level beyond), for the same owner triangle of each pair, so the
-  entries agree with the dense matrix to rounding;
+  (inside :data:`copperpath.solver.elements.partial.NEAR_FACTOR` diameters the rule of the
+  pair's class, polar near-field quadrature or product Gauss, and product Gauss of the
+  distance level beyond), for the same owner triangle of each pair, so the entries agree with
+  the dense matrix to rounding;
 - the grid moments, the same pair as the FFT sees it (its grid charges and the sampled kernel).
 
 Both are scattered onto the branch pairs in one sparse pattern (:func:`branch_near_matrices`):
@@ -26,7 +27,7 @@ from scipy.spatial import cKDTree
 
 from copperpath.solver.elements.kernels import FASTMATH
 from copperpath.solver.elements.partial import NEAR_FACTOR
-from copperpath.solver.elements.quadrature import far_moments, half_pair, near_moments
+from copperpath.solver.elements.quadrature import class_moments, far_moments, half_pair, pair_class
 
 
 def near_pair_list(cent, zmid, diam, radius, diam_factor):
@@ -138,14 +139,17 @@ def _grid_moments(a, b, node_ptr, nodes, w, gk, out):
 
 @njit(parallel=True, cache=True)
 def pair_tables(verts, tri_vid, cent, area, diam, zmid, tri_zi, zpar, ptr, other, obary, ow,
-                nrule, glx, glw, panel, far_pts, far_wts, far_n, far_q, node_ptr, nodes, w,
-                plane, gk, gk_key):
+                nrule, glx, glw, panel, sbary, sw, smooth, far_pts, far_wts, far_n, far_q,
+                node_ptr, nodes, w, plane, gk, gk_key):
     """Exact and grid moments (n_pairs, 6) of every listed pair, from its owner.
 
-    The exact rule is that of the dense fill: polar quadrature with the rule class of the
-    shared vertices (``tri_vid``) for pairs within :data:`copperpath.solver.elements.partial.NEAR_FACTOR`
-    diameters and the self pair, product Gauss of the distance level (``far_q``) beyond.
-    ``gk[gk_key[pa, pb]]`` is the kernel sampled at the grid offsets of planes ``pa``, ``pb``.
+    The exact rule is that of the dense fill: for pairs within
+    :data:`copperpath.solver.elements.partial.NEAR_FACTOR` diameters and the self pair the
+    rule of the pair's class (:func:`copperpath.solver.elements.quadrature.pair_class` with
+    separation ``smooth``: polar quadrature with the outer rule of the shared vertices
+    ``tri_vid``, or product Gauss ``sbary``, ``sw``), product Gauss of the distance level
+    (``far_q``) beyond. ``gk[gk_key[pa, pb]]`` is the kernel sampled at the grid offsets of
+    planes ``pa``, ``pb``.
     """
     n_pairs = other.size
     exact = np.empty((n_pairs, 6))
@@ -156,18 +160,14 @@ def pair_tables(verts, tri_vid, cent, area, diam, zmid, tri_zi, zpar, ptr, other
             dx = cent[a, 0] - cent[b, 0]
             dy = cent[a, 1] - cent[b, 1]
             dz = zmid[a] - zmid[b]
-            q = math.sqrt(dx * dx + dy * dy + dz * dz) / max(diam[a], diam[b])
+            dmax = max(diam[a], diam[b])
+            q = math.sqrt(dx * dx + dy * dy + dz * dz) / dmax
             par = zpar[tri_zi[a], tri_zi[b]]
             if a == b or q < NEAR_FACTOR:
-                shared = 0
-                for i in range(3):
-                    for j in range(3):
-                        if tri_vid[a, i] == tri_vid[b, j]:
-                            shared += 1
-                c = min(shared, 2)
-                near_moments(verts[a], cent[a, 0], cent[a, 1], area[a], verts[b], cent[b, 0],
-                             cent[b, 1], par, obary[c, :nrule[c]], ow[c, :nrule[c]], glx, glw,
-                             panel, exact[k])
+                c = pair_class(tri_vid[a], tri_vid[b], verts[a], verts[b], dmax, par, smooth)
+                class_moments(c, verts[a], cent[a, 0], cent[a, 1], area[a], verts[b], cent[b, 0],
+                              cent[b, 1], par, obary, ow, nrule, glx, glw, panel, sbary, sw,
+                              exact[k])
             else:
                 lev = 0
                 while q >= far_q[lev]:

@@ -28,7 +28,7 @@ import scipy.sparse as sp
 from numba import njit, prange
 from scipy.signal import fftconvolve
 
-from copperpath.solver.elements import nearfield
+from copperpath.solver.elements import nearfield, partial
 from copperpath.solver.elements import taper as taper_mod
 from copperpath.solver.elements.kernels import averaged_kernel
 from copperpath.solver.elements.partial import (MU0, N_W, W_PANEL, FAR_LEVELS, _check_halves, _far_rules,
@@ -518,10 +518,11 @@ def build_sheet_operator(points, triangles, tri_z, half_branch, half_tri, half_v
     glx, glw = np.polynomial.legendre.leggauss(N_W)
     far_pts, far_wts, far_n = _far_rules(verts, cent, area)
     far_q = np.array([q for q, _ in FAR_LEVELS])
+    sbary, sw = triangle_rule(partial.SMOOTH_DEGREE)
     exact, grid = nearfield.pair_tables(verts, tris, cent, area, diam, zmid, tri_zi, zpar,
                                         near_ptr, near_other, obary, ow, nrule, glx, glw, W_PANEL,
-                                        far_pts, far_wts, far_n, far_q, node_ptr, nodes, w,
-                                        tri_zi, gk, key)
+                                        sbary, sw, float(partial.SMOOTH_SEPARATION), far_pts,
+                                        far_wts, far_n, far_q, node_ptr, nodes, w, tri_zi, gk, key)
     del far_pts, far_wts
     stage("near moments")
     flist = nearfield.symmetric_list(near_ptr, near_other)

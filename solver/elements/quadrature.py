@@ -30,7 +30,12 @@ import math
 import numpy as np
 from numba import njit, prange
 
-from copperpath.solver.elements.kernels import FASTMATH, kernel_value, radial_p12
+from copperpath.solver.elements.kernels import FASTMATH, kernel_value, pair_gap, radial_p12
+
+#: Rule classes of a near pair (:func:`pair_class`): polar quadrature with the outer rule of
+#: class 0 (no shared vertex), 1 (one shared vertex) or 2 (a shared edge, or the self pair),
+#: or product Gauss (:data:`SMOOTH`) for pairs far enough apart for it.
+SMOOTH = 3
 
 # Symmetric rules on the triangle (Dunavant 1985, "High degree efficient symmetrical Gaussian
 # quadrature rules for the triangle", IJNME 21): orbits (a, b, weight) in barycentric
@@ -182,6 +187,90 @@ def far_moments(dcx, dcy, xa, wa, xb, wb, par, out):
 
 
 @njit(cache=True, fastmath=FASTMATH)
+def _segment_distance(px, py, ax, ay, bx, by):
+    ex, ey = bx - ax, by - ay
+    t = min(1.0, max(0.0, ((px - ax) * ex + (py - ay) * ey) / (ex * ex + ey * ey)))
+    return math.hypot(px - ax - t * ex, py - ay - t * ey)
+
+
+@njit(cache=True, fastmath=FASTMATH)
+def _separated(ta, tb):
+    """True if an edge line of either counter-clockwise triangle separates the two."""
+    for side in range(2):
+        t1 = ta if side == 0 else tb
+        t2 = tb if side == 0 else ta
+        for e in range(3):
+            ax, ay = t1[e, 0], t1[e, 1]
+            nx, ny = t1[(e + 1) % 3, 1] - ay, ax - t1[(e + 1) % 3, 0]   # outward normal
+            low = math.inf
+            for i in range(3):
+                low = min(low, (t2[i, 0] - ax) * nx + (t2[i, 1] - ay) * ny)
+            if low > 0.0:
+                return True
+    return False
+
+
+@njit(cache=True, fastmath=FASTMATH)
+def triangle_distance(ta, tb):
+    """Smallest in-plane distance (m) between two counter-clockwise triangles, 0 if they overlap.
+
+    Two convex polygons are disjoint exactly when an edge line of one separates them; then the
+    distance is the smallest distance from a vertex of one to an edge of the other.
+    """
+    if not _separated(ta, tb):
+        return 0.0
+    d = math.inf
+    for i in range(3):
+        for e in range(3):
+            f = (e + 1) % 3
+            d = min(d, _segment_distance(ta[i, 0], ta[i, 1], tb[e, 0], tb[e, 1], tb[f, 0], tb[f, 1]),
+                    _segment_distance(tb[i, 0], tb[i, 1], ta[e, 0], ta[e, 1], ta[f, 0], ta[f, 1]))
+    return d
+
+
+@njit(cache=True, fastmath=FASTMATH)
+def pair_class(vid_a, vid_b, ta, tb, dmax, par, smooth):
+    """Rule class of a near pair (see :data:`SMOOTH`).
+
+    Pairs sharing vertices (``vid_a``, ``vid_b``: node indices) get the polar rule of their
+    class. A pair sharing none gets product Gauss when its separation, ``sqrt(d^2 + g^2)`` with
+    ``d`` the in-plane distance between the triangles and ``g`` the vertical gap between their
+    copper (``par``), is at least ``smooth`` times ``dmax`` (the larger diameter, m).
+    """
+    shared = 0
+    for i in range(3):
+        for j in range(3):
+            if vid_a[i] == vid_b[j]:
+                shared += 1
+    if shared:
+        return min(shared, 2)
+    gap = pair_gap(par)
+    limit = smooth * dmax
+    if gap >= limit or math.hypot(triangle_distance(ta, tb), gap) >= limit:
+        return SMOOTH
+    return 0
+
+
+@njit(cache=True, fastmath=FASTMATH)
+def smooth_moments(ta, cax, cay, area_a, tb, cbx, cby, par, bary, w, out):
+    """Product-Gauss pair moments with the rule ``bary``, ``w`` on both triangles into ``out`` (6,)."""
+    n = w.size
+    xa = np.empty((n, 2))
+    xb = np.empty((n, 2))
+    for i in range(n):
+        for k in range(2):
+            xa[i, k] = bary[i, 0] * ta[0, k] + bary[i, 1] * ta[1, k] + bary[i, 2] * ta[2, k]
+            xb[i, k] = bary[i, 0] * tb[0, k] + bary[i, 1] * tb[1, k] + bary[i, 2] * tb[2, k]
+        xa[i, 0] -= cax
+        xa[i, 1] -= cay
+        xb[i, 0] -= cbx
+        xb[i, 1] -= cby
+    area_b = 0.5 * ((tb[1, 0] - tb[0, 0]) * (tb[2, 1] - tb[0, 1])
+                    - (tb[1, 1] - tb[0, 1]) * (tb[2, 0] - tb[0, 0]))
+    far_moments(cax - cbx, cay - cby, xa, w * area_a, xb, w * area_b, par, out)
+
+
+@njit(cache=True, fastmath=FASTMATH)
 def inner_polar(px, py, tb, cbx, cby, par, glx, glw, panel):
     """``int_Tb K dS'`` (m) and ``int_Tb (r' - cb) K dS'`` (m^2) about the point ``(px, py)``.
 
@@ -269,23 +358,39 @@ def near_moments(ta, cax, cay, area_a, tb, cbx, cby, par, obary, ow, glx, glw, p
         out[5] += w * (rx * ix + ry * iy)
 
 
+@njit(cache=True, fastmath=FASTMATH)
+def class_moments(c, ta, cax, cay, area_a, tb, cbx, cby, par, obary, ow, nrule, glx, glw,
+                  panel, sbary, sw, out):
+    """Moments of a near pair by the rule of its class ``c`` (:func:`pair_class`) into ``out``.
+
+    Polar quadrature with the outer rule ``obary[c, :nrule[c]]``, ``ow[c, :nrule[c]]``, or
+    for :data:`SMOOTH` product Gauss with ``sbary``, ``sw`` on both triangles.
+    """
+    if c == SMOOTH:
+        smooth_moments(ta, cax, cay, area_a, tb, cbx, cby, par, sbary, sw, out)
+    else:
+        near_moments(ta, cax, cay, area_a, tb, cbx, cby, par, obary[c, :nrule[c]],
+                     ow[c, :nrule[c]], glx, glw, panel, out)
+
+
 @njit(parallel=True, cache=True)
-def near_table(verts, cent, area, tri_zi, zpar, near_ptr, near_idx, near_cls,
-               obary, ow, nrule, glx, glw, panel):
+def near_table(verts, tri_vid, cent, area, diam, tri_zi, zpar, near_ptr, near_idx, obary, ow,
+               nrule, glx, glw, panel, sbary, sw, smooth):
     """Moments of every listed near pair, (n_pairs, 6); parallel over the first triangle.
 
     ``near_ptr``/``near_idx`` list, per triangle ``a``, the triangles ``b`` treated as near;
-    ``near_cls[k]`` picks the outer rule ``obary[c, :nrule[c]]``, ``ow[c, :nrule[c]]``
-    (0: near, 1: sharing a vertex, 2: sharing an edge or the same triangle).
+    each pair's rule is that of its class (:func:`pair_class` with separation ``smooth``,
+    :func:`class_moments`).
     """
     out = np.empty((near_idx.size, 6))
     for a in prange(cent.shape[0]):
         for k in range(near_ptr[a], near_ptr[a + 1]):
             b = near_idx[k]
-            c = near_cls[k]
-            near_moments(verts[a], cent[a, 0], cent[a, 1], area[a], verts[b], cent[b, 0],
-                         cent[b, 1], zpar[tri_zi[a], tri_zi[b]], obary[c, :nrule[c]],
-                         ow[c, :nrule[c]], glx, glw, panel, out[k])
+            par = zpar[tri_zi[a], tri_zi[b]]
+            c = pair_class(tri_vid[a], tri_vid[b], verts[a], verts[b], max(diam[a], diam[b]),
+                           par, smooth)
+            class_moments(c, verts[a], cent[a, 0], cent[a, 1], area[a], verts[b], cent[b, 0],
+                          cent[b, 1], par, obary, ow, nrule, glx, glw, panel, sbary, sw, out[k])
     return out
 
 

@@ -39,7 +39,7 @@ def near_branch_pattern(points, triangles, tri_z, half_branch, half_tri, n_branc
     tris = np.asarray(triangles, np.int64)[used]
     _, cent, _, diam = partial._triangle_geometry(points, tris)
     _, _, zmid = partial._layer_params(np.asarray(tri_z)[used])
-    ptr, idx, _ = partial._near_pairs(cent, zmid, diam, tris)
+    ptr, idx = partial._near_pairs(cent, zmid, diam)
     owner = np.repeat(np.arange(len(used)), np.diff(ptr))
     n = len(used)
     t = sp.coo_matrix((np.ones(len(idx), bool), (owner, idx)), shape=(n, n)).tocsr()
