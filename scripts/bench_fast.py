@@ -10,6 +10,8 @@ memory); run the large sizes one at a time on a shared machine.
     python scripts/bench_fast.py [--scales 2.4 1.7 1.2 0.85 0.6 0.42 0.3] [--freqs 10]
     python scripts/bench_fast.py --scales 0.3 --hz 0 1e6 1e8      # large sizes: fewer points
 
+Every layer gets one sublayer (``--sublayers``), so the unknowns grow with the mesh alone.
+
 ``total s`` is the whole sweep after meshing (assembly, reduction or coarse space, every
 frequency); ``x dense`` the dense path's total over the fast one's.
 """
@@ -43,12 +45,15 @@ def _solve(case, mesh, freqs, method):
     return system, result, t_asm
 
 
-def run_one(scale, freqs, method, dense_max):
+def run_one(scale, freqs, method, dense_max, sublayers):
     """One mesh size in this process; the measurements as a dict."""
     from copperpath.geometry.case import load_case
     from copperpath.geometry.meshing import triangulate
 
     case = load_case(CASE)
+    if sublayers is not None:
+        layers = tuple(dataclasses.replace(la, sublayers=sublayers) for la in case.layout.layers)
+        case = dataclasses.replace(case, layout=dataclasses.replace(case.layout, layers=layers))
     opts = dataclasses.replace(case.mesh, max_edge=case.mesh.max_edge * scale,
                                min_edge=case.mesh.min_edge * scale)
     freqs = np.asarray(freqs, float)
@@ -90,6 +95,9 @@ def main(argv=None):
                    help="override krylov.COARSE_MIN_LOOPS (0: coarse correction always)")
     p.add_argument("--method", default="fast", choices=["auto", "dense", "fast"])
     p.add_argument("--dense-max", type=int, default=20000)
+    p.add_argument("--sublayers", default="1",
+                   help='sublayers of every layer (default 1, so that the unknowns follow the mesh '
+                        'alone; "auto": as the case file, which fills the auto sublayer budget)')
     p.add_argument("--one", type=float, help=argparse.SUPPRESS)
     args = p.parse_args(argv)
     freqs = args.hz or [0.0, *np.logspace(3, 8, args.freqs - 1)]
@@ -99,7 +107,8 @@ def main(argv=None):
         krylov.COARSE_MIN_LOOPS = args.coarse_min_loops
         extra = ["--coarse-min-loops", str(args.coarse_min_loops)]
     if args.one is not None:
-        print(json.dumps(run_one(args.one, freqs, args.method, args.dense_max)))
+        sub = None if args.sublayers == "auto" else int(args.sublayers)
+        print(json.dumps(run_one(args.one, freqs, args.method, args.dense_max, sub)))
         return 0
     print(f"{'scale':>5} {'unknowns':>8} {'loops':>7} {'method':>6} {'asm s':>7} {'red s':>6} "
           f"{'s/freq':>7} {'iter':>5} {'total s':>8} {'x dense':>7} {'peak MiB':>8} {'L lo nH':>8} "
@@ -107,7 +116,8 @@ def main(argv=None):
     for scale in args.scales:
         out = subprocess.run([sys.executable, __file__, "--one", str(scale), "--hz",
                               *map(str, freqs), "--method", args.method, "--dense-max",
-                              str(args.dense_max), *extra], capture_output=True, text=True,
+                              str(args.dense_max), "--sublayers", args.sublayers, *extra],
+                             capture_output=True, text=True,
                              cwd=ROOT)
         if out.returncode != 0:
             print(f"{scale:5.2f} failed: {(out.stderr.strip().splitlines() or ['?'])[-1]}")
