@@ -9,6 +9,7 @@ definite; the two-level A-DEF2 form (Tang, Nabben, Vuik & Erlangga 2009, J. Sci.
 from memory) is exact when the coarse space is the whole space.
 """
 import numpy as np
+import pytest
 import scipy.sparse as sp
 
 from copperpath.solver.elements.pfft import build_sheet_operator
@@ -99,3 +100,24 @@ def test_gmres_with_the_coarse_correction_reaches_the_one_level_solution():
     assert two.coarse is not None and 1 < two.coarse.size < C.shape[1] / 4
     x1, x2 = one(w, b), two(w, b)
     np.testing.assert_allclose(x2, x1, rtol=1e-4, atol=1e-4 * np.abs(x1).max())
+
+
+@pytest.mark.parametrize("max_coarse", [100, 2000])
+def test_gmres_with_the_multigrid_preconditioner_reaches_the_lu_solution(monkeypatch, max_coarse):
+    # the V-cycle in place of the sparse LU (used from krylov.AMG_MIN_LOOPS loops on) is only
+    # a different preconditioner: the same system, the same solution within the tolerance
+    # (1,448 loops: several levels, or one level solved directly)
+    from copperpath.solver.solve import krylov
+    from copperpath.solver.solve.krylov import KrylovLoopSolver
+
+    monkeypatch.setattr(krylov, "AMG_MAX_COARSE", max_coarse)
+
+    system = _fast_via_system()
+    C, R, L = system.basis.loops, system.R, system.L
+    for w in (2 * np.pi * 1e6, 2 * np.pi * 1e8):
+        b = np.asarray(C.T @ (R @ system.port_paths + 1j * w * (L @ system.port_paths.toarray())))
+        lu = KrylovLoopSolver(C, R, L, 1e-7, coarse=False, amg=False)
+        amg = KrylovLoopSolver(C, R, L, 1e-7, coarse=False, amg=True)
+        x1, x2 = lu(w, b), amg(w, b)
+        assert amg.amg and not lu.amg and amg.iterations[0] > 0
+        np.testing.assert_allclose(x2, x1, rtol=1e-4, atol=1e-4 * np.abs(x1).max())

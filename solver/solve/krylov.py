@@ -22,7 +22,8 @@ with 20 entries per loop and a real LU, about a hundred times less preconditione
 The iterations still grow with the mesh (1 MHz: 22 at 6.4k loops, 52 at 14.5k): smooth patterns
 of loop current couple through the far field the near part misses. From :data:`COARSE_MIN_LOOPS`
 loops on, a coarse correction (:mod:`copperpath.solver.solve.coarse`) handles them (25-28
-iterations up to 14.5k loops in the measurements).
+iterations up to 14.5k loops in the measurements). From :data:`AMG_MIN_LOOPS` loops on, ``M(w)``
+is applied by a multigrid V-cycle instead of its LU, whose fill grows too fast beyond.
 Vertex loops are local magnetic dipoles whose far couplings decay like ``1/r^3``, so the
 near part captures most of ``A``; the few long loops (around holes, through vias and lumped
 branches) add a few outlying eigenvalues, which GMRES removes in a few iterations each.
@@ -45,6 +46,14 @@ MAX_CYCLES = 10
 #: aggregate; at 14.5k loops (44.5k unknowns) it cut the iterations from 20-52 to 15-28 but its
 #: 85 s set-up outweighed the 11 s saved over four frequencies (DEVELOPERS.md).
 COARSE_MIN_LOOPS = 30000
+#: Loops from which ``M(w)`` is applied by an algebraic-multigrid V-cycle (pyamg smoothed
+#: aggregation) instead of its sparse LU. The LU's fill grows fast on these meshes: a factor
+#: took 3.6 s at 36.6k loops and 85 s at 102k (four-layer section, DEVELOPERS.md); the V-cycle
+#: sets up in 0.1 s at 36.6k but cost 70 iterations at 1 MHz against 46 with the LU (49 and 50
+#: at 100 MHz).
+AMG_MIN_LOOPS = 40000
+#: Size of the multigrid's coarsest level (solved directly).
+AMG_MAX_COARSE = 2000
 
 
 def strong_part(A, keep):
@@ -78,6 +87,9 @@ class KrylovLoopSolver:
     coarse : bool, optional
         Add the coarse correction (:class:`copperpath.solver.solve.coarse.CoarseSpace`);
         default: from :data:`COARSE_MIN_LOOPS` loops on.
+    amg : bool, optional
+        Apply ``M(w)^-1`` by a multigrid V-cycle rather than the sparse LU; default: from
+        :data:`AMG_MIN_LOOPS` loops on.
 
     Attributes
     ----------
@@ -88,7 +100,7 @@ class KrylovLoopSolver:
     """
 
     def __init__(self, C, R, L, rtol, *, keep=KEEP, restart=RESTART, max_cycles=MAX_CYCLES,
-                 coarse=None):
+                 coarse=None, amg=None):
         self.C = sp.csc_matrix(C)
         self.Ct = self.C.T.tocsr()
         self.R, self.L, self.rtol = sp.csr_matrix(R), L, float(rtol)
@@ -98,6 +110,7 @@ class KrylovLoopSolver:
         if coarse is None:
             coarse = self.C.shape[1] >= COARSE_MIN_LOOPS
         self.coarse = CoarseSpace(self.C, self.Rc, L, L.positions()) if coarse else None
+        self.amg = self.C.shape[1] >= AMG_MIN_LOOPS if amg is None else bool(amg)
         # R / L of a typical loop (1/s): where the loops turn from resistive to inductive
         d = self.Lnc.diagonal()
         self.rate = float(np.median(self.Rc.diagonal()[d > 0] / d[d > 0])) if (d > 0).any() else 0.0
@@ -113,14 +126,25 @@ class KrylovLoopSolver:
         return self.Ct @ (self.R @ i + 1j * w * (self.L @ i))
 
     def factor(self, w):
-        """The preconditioner at ``w``: ``v -> M(w)^-1 v`` by a real sparse LU of
-        ``M(w) = C^T R C + w C^T L_t C``, applied to ``Re v`` and ``Im v``, within the coarse
+        """The preconditioner at ``w``: ``v -> M(w)^-1 v`` for the real symmetric positive
+        definite ``M(w) = C^T R C + w C^T L_t C`` (by its sparse LU, or approximately by one
+        multigrid V-cycle, see ``amg``), applied to ``Re v`` and ``Im v``, within the coarse
         correction when there is one."""
-        lu = spla.splu((self.Rc + w * self.Lnc).tocsc(), permc_spec="MMD_AT_PLUS_A")
+        M = self.Rc + w * self.Lnc
+        if self.amg:
+            import pyamg
 
-        def solve(v):
-            y = lu.solve(np.column_stack([v.real, v.imag]))
-            return y[:, 0] + 1j * y[:, 1]
+            cycle = pyamg.smoothed_aggregation_solver(M.tocsr(), symmetry="symmetric",
+                                                      max_coarse=AMG_MAX_COARSE).aspreconditioner()
+
+            def solve(v):
+                return cycle @ np.ascontiguousarray(v.real) + 1j * (cycle @ np.ascontiguousarray(v.imag))
+        else:
+            lu = spla.splu(M.tocsc(), permc_spec="MMD_AT_PLUS_A")
+
+            def solve(v):
+                y = lu.solve(np.column_stack([v.real, v.imag]))
+                return y[:, 0] + 1j * y[:, 1]
         if self.coarse is None:
             return solve
         # Within the coarse correction the smoother must also carry the phase of A^-1: the
