@@ -166,8 +166,8 @@ def pair_tables(verts, tri_vid, cent, area, diam, zmid, tri_zi, zpar, ptr, other
             if a == b or q < NEAR_FACTOR:
                 c = pair_class(tri_vid[a], tri_vid[b], verts[a], verts[b], dmax, par, smooth)
                 class_moments(c, verts[a], cent[a, 0], cent[a, 1], area[a], verts[b], cent[b, 0],
-                              cent[b, 1], par, obary, ow, nrule, glx, glw, panel, sbary, sw,
-                              exact[k])
+                              cent[b, 1], area[b], par, obary, ow, nrule, glx, glw, panel, sbary,
+                              sw, exact[k])
             else:
                 lev = 0
                 while q >= far_q[lev]:

@@ -252,7 +252,7 @@ def pair_class(vid_a, vid_b, ta, tb, dmax, par, smooth):
 
 
 @njit(cache=True, fastmath=FASTMATH)
-def smooth_moments(ta, cax, cay, area_a, tb, cbx, cby, par, bary, w, out):
+def smooth_moments(ta, cax, cay, area_a, tb, cbx, cby, area_b, par, bary, w, out):
     """Product-Gauss pair moments with the rule ``bary``, ``w`` on both triangles into ``out`` (6,)."""
     n = w.size
     xa = np.empty((n, 2))
@@ -265,8 +265,6 @@ def smooth_moments(ta, cax, cay, area_a, tb, cbx, cby, par, bary, w, out):
         xa[i, 1] -= cay
         xb[i, 0] -= cbx
         xb[i, 1] -= cby
-    area_b = 0.5 * ((tb[1, 0] - tb[0, 0]) * (tb[2, 1] - tb[0, 1])
-                    - (tb[1, 1] - tb[0, 1]) * (tb[2, 0] - tb[0, 0]))
     far_moments(cax - cbx, cay - cby, xa, w * area_a, xb, w * area_b, par, out)
 
 
@@ -359,15 +357,15 @@ def near_moments(ta, cax, cay, area_a, tb, cbx, cby, par, obary, ow, glx, glw, p
 
 
 @njit(cache=True, fastmath=FASTMATH)
-def class_moments(c, ta, cax, cay, area_a, tb, cbx, cby, par, obary, ow, nrule, glx, glw,
-                  panel, sbary, sw, out):
+def class_moments(c, ta, cax, cay, area_a, tb, cbx, cby, area_b, par, obary, ow, nrule, glx,
+                  glw, panel, sbary, sw, out):
     """Moments of a near pair by the rule of its class ``c`` (:func:`pair_class`) into ``out``.
 
     Polar quadrature with the outer rule ``obary[c, :nrule[c]]``, ``ow[c, :nrule[c]]``, or
     for :data:`SMOOTH` product Gauss with ``sbary``, ``sw`` on both triangles.
     """
     if c == SMOOTH:
-        smooth_moments(ta, cax, cay, area_a, tb, cbx, cby, par, sbary, sw, out)
+        smooth_moments(ta, cax, cay, area_a, tb, cbx, cby, area_b, par, sbary, sw, out)
     else:
         near_moments(ta, cax, cay, area_a, tb, cbx, cby, par, obary[c, :nrule[c]],
                      ow[c, :nrule[c]], glx, glw, panel, out)
@@ -390,7 +388,8 @@ def near_table(verts, tri_vid, cent, area, diam, tri_zi, zpar, near_ptr, near_id
             c = pair_class(tri_vid[a], tri_vid[b], verts[a], verts[b], max(diam[a], diam[b]),
                            par, smooth)
             class_moments(c, verts[a], cent[a, 0], cent[a, 1], area[a], verts[b], cent[b, 0],
-                          cent[b, 1], par, obary, ow, nrule, glx, glw, panel, sbary, sw, out[k])
+                          cent[b, 1], area[b], par, obary, ow, nrule, glx, glw, panel, sbary, sw,
+                          out[k])
     return out
 
 

@@ -134,17 +134,14 @@ class KrylovLoopSolver:
         if self.amg:
             import pyamg
 
-            cycle = pyamg.smoothed_aggregation_solver(M.tocsr(), symmetry="symmetric",
-                                                      max_coarse=AMG_MAX_COARSE).aspreconditioner()
-
-            def solve(v):
-                return cycle @ np.ascontiguousarray(v.real) + 1j * (cycle @ np.ascontiguousarray(v.imag))
+            real_solve = pyamg.smoothed_aggregation_solver(
+                M.tocsr(), symmetry="symmetric", max_coarse=AMG_MAX_COARSE).aspreconditioner().matmat
         else:
-            lu = spla.splu(M.tocsc(), permc_spec="MMD_AT_PLUS_A")
+            real_solve = spla.splu(M.tocsc(), permc_spec="MMD_AT_PLUS_A").solve
 
-            def solve(v):
-                y = lu.solve(np.column_stack([v.real, v.imag]))
-                return y[:, 0] + 1j * y[:, 1]
+        def solve(v):
+            y = real_solve(np.column_stack([v.real, v.imag]))
+            return y[:, 0] + 1j * y[:, 1]
         if self.coarse is None:
             return solve
         # Within the coarse correction the smoother must also carry the phase of A^-1: the
