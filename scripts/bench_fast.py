@@ -10,6 +10,7 @@ memory); run the large sizes one at a time on a shared machine.
     python scripts/bench_fast.py [--scales 2.4 1.7 1.2 0.85 0.6 0.42 0.3] [--freqs 10]
     python scripts/bench_fast.py --scales 0.3 --hz 0 1e6 1e8      # large sizes: fewer points
     python scripts/bench_fast.py --scales 0.19 --hz 0 1e6 1e8     # 669k unknowns, 11 min, 7 GB
+    python scripts/bench_fast.py --scales 0.15 --hz 0 1e6 1e8     # 1.0M unknowns, 17 min, 9.3 GB
 
 Every layer gets one sublayer (``--sublayers``), so the unknowns grow with the mesh alone.
 

@@ -43,8 +43,10 @@ RESTART = 100
 #: Restart cycles before GMRES gives up.
 MAX_CYCLES = 10
 #: Loops from which the coarse correction is added. Its set-up costs one product of ``L`` per
-#: aggregate; at 14.5k loops (44.5k unknowns) it cut the iterations from 20-52 to 15-28 but its
-#: 85 s set-up outweighed the 11 s saved over four frequencies (DEVELOPERS.md).
+#: aggregate; at 14.5k loops (44.5k unknowns, four-layer section, DEVELOPERS.md) it cut the
+#: most iterations per frequency (1 and 100 MHz) from 52 to 27 and the time per frequency from
+#: 6.2 to 4.0 s, for 12.6 s of set-up and 0.7 GB more peak memory: it pays from about six frequencies.
+#: At 9.2k loops it saved iterations (40 to 25) but not time (2.3 against 2.5 s per frequency).
 COARSE_MIN_LOOPS = 30000
 #: Loops from which ``M(w)`` is applied by an algebraic-multigrid V-cycle (pyamg smoothed
 #: aggregation) instead of its sparse LU. The LU's fill grows fast on these meshes: a factor

@@ -11,9 +11,9 @@ for the skin effect", Proc. IRE 30): the same formula with every surface receded
 The plane's finite width (10 mm against HJ's infinite plane) adds 0.10 % (a 2-D method-of-
 moments check, DEVELOPERS.md), within the tolerance.
 
-The full check needs about 88k unknowns in all and runs for a long time: it is marked slow and
-measured by ``scripts/default_accuracy.py`` (DEVELOPERS.md: at the current default it was
-measured on 8 mm minus 4 mm, +2.57 %; the full 30 / 20 mm run is still to be made). The fast
+The full check needs about 88k unknowns in all (3.7 minutes on 2 cores): it is marked slow and
+measured by ``scripts/default_accuracy.py`` (DEVELOPERS.md, measured at the current default:
++2.52 % on 30 minus 20 mm, +2.57 % on the 8 minus 4 mm proxy). The fast
 tests of the choices themselves are in tests/test_defaults.py.
 """
 import pytest
