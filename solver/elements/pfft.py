@@ -37,6 +37,8 @@ from copperpath.solver.elements.quadrature import triangle_rule
 
 #: FFT workers (the machine this runs on has two cores).
 WORKERS = 2
+#: Bytes of the grids of one block product; a product of more columns runs in chunks.
+GRID_BLOCK_BYTES = 10**9
 
 
 @dataclass(frozen=True)
@@ -187,9 +189,9 @@ class SheetOperator:
         nx, ny = self.grid
         nxp, nyp = self.padded
         dtype = np.float32 if self.accuracy.single else np.float64
-        # columns per chunk: keep the grids under about 1 GB
+        # columns per chunk: keep the grids under GRID_BLOCK_BYTES
         per_col = self.n_planes * 2 * nxp * (nyp // 2 + 1) * (16 if dtype == np.float64 else 8) * 3
-        chunk = max(1, min(r.shape[1], int(1e9 // per_col)))
+        chunk = max(1, min(r.shape[1], int(GRID_BLOCK_BYTES // per_col)))
         for c0 in range(0, r.shape[1], chunk):
             c1 = min(r.shape[1], c0 + chunk)
             ca = np.ascontiguousarray(a[:, c0:c1].T.reshape(c1 - c0, 3, v))

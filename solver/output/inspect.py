@@ -98,7 +98,8 @@ def inspect_summary(layout, mesh, *, ports=(), title="", lumped=(), frequencies=
     unknowns, nodes, loops = network.n_branches, network.n_nodes, est.loops
     free, source = memory.available()
     method = choose_method(method, unknowns)
-    fast = estimate_fast_memory(unknowns, loops, max(len(ports), 1), len(freqs))
+    fast = estimate_fast_memory(unknowns, loops, max(len(ports), 1), len(freqs),
+                                sublayers=max(network.layer_sublayers, default=1))
     angles = mesh.angles_deg.min(axis=1) if mesh.n_triangles else np.array([180.0])
     return {
         "title": title,

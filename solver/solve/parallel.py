@@ -70,7 +70,8 @@ def task_memory(system, points):
         shared = est.parts["L"]
         return est.solve_bytes - shared, shared
     shared = SHEET_BYTES_PER_BRANCH * b
-    return estimate_fast_memory(b, n, p, points) - shared, shared
+    subs = max(net.layer_sublayers, default=1)
+    return estimate_fast_memory(b, n, p, points, sublayers=subs) - shared, shared
 
 
 def _solve_chunk(system, task):

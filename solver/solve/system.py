@@ -173,7 +173,7 @@ def choose_method(method, n_branches):
 
 
 def check_memory(method, n_branches, n_loops, n_nodes, n_ports=1, n_freqs=1, *, limit=None,
-                 keep_currents=True, lower_bound=False, what=None):
+                 keep_currents=True, lower_bound=False, what=None, sublayers=1):
     """Refuse before anything large is allocated when the chosen path would not fit.
 
     The dense path is estimated by :func:`copperpath.solver.solve.memory.estimate`, the fast
@@ -186,7 +186,8 @@ def check_memory(method, n_branches, n_loops, n_nodes, n_ports=1, n_freqs=1, *, 
         Naming the need, the limit and the settings to change.
     """
     usable = limit if limit is not None else int(memory.USABLE_FRACTION * memory.available()[0])
-    fast = estimate_fast_memory(n_branches, n_loops, n_ports, n_freqs, keep_currents=keep_currents)
+    fast = estimate_fast_memory(n_branches, n_loops, n_ports, n_freqs, keep_currents=keep_currents,
+                                sublayers=sublayers)
     if method == "dense":
         est = memory.estimate(n_branches, n_loops, n_nodes, ports=max(n_ports, 1), freqs=n_freqs,
                               keep_currents=keep_currents, lower_bound=lower_bound)
@@ -296,7 +297,8 @@ def assemble(mesh, layout, ports, lumped=(), *, n_freqs=1, f_max=0.0, memory_lim
     nb = network.n_branches
     method = choose_method(method, nb)
     check_memory(method, nb, basis.loops.shape[1], network.n_nodes, len(ports), n_freqs,
-                 limit=memory_limit, keep_currents=keep_currents)
+                 limit=memory_limit, keep_currents=keep_currents,
+                 sublayers=max(network.layer_sublayers, default=1))
 
     t = time.perf_counter()
     n_edges = int((network.branch_kind == EDGE).sum())
