@@ -91,6 +91,11 @@ class Network:
         """Number of current unknowns."""
         return len(self.branch_kind)
 
+    @property
+    def most_sublayers(self) -> int:
+        """Most sublayers of any layer (1 without layers)."""
+        return max(self.layer_sublayers, default=1)
+
     @cached_property
     def incidence(self) -> sp.csr_matrix:
         """``D`` (n_nodes x B): +1 where a branch leaves a node, -1 where it enters."""

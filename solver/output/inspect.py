@@ -99,7 +99,7 @@ def inspect_summary(layout, mesh, *, ports=(), title="", lumped=(), frequencies=
     free, source = memory.available()
     method = choose_method(method, unknowns)
     fast = estimate_fast_memory(unknowns, loops, max(len(ports), 1), len(freqs),
-                                sublayers=max(network.layer_sublayers, default=1))
+                                sublayers=network.most_sublayers)
     angles = mesh.angles_deg.min(axis=1) if mesh.n_triangles else np.array([180.0])
     return {
         "title": title,

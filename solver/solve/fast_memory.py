@@ -47,12 +47,11 @@ def estimate_fast_memory(n_branches, n_loops, n_ports=1, n_freqs=1, *, keep_curr
     -------
     int
         Sheet operator, the near-field part and its tapered copy (real csr, 12 B per entry each),
-        the loop preconditioner and its real LU or multigrid hierarchy (12 B per entry), the coarse space from
-        ``COARSE_MIN_LOOPS`` loops (``C^T L C P``, 8 B per loop and aggregate, one chunk of
-        ``C P`` and ``L C P`` and the pFFT grids of that chunk's product, at most
-        ``GRID_BLOCK_BYTES``), the GMRES
-        basis (16 B per vector entry), a few complex work vectors per port and the stored
-        currents (16 F P B, twice with potentials).
+        the loop preconditioner and its real LU or multigrid hierarchy (12 B per entry), the
+        coarse space from ``COARSE_MIN_LOOPS`` loops (``C^T L C P``, 8 B per loop and aggregate,
+        one chunk of ``C P`` and ``L C P`` and the pFFT grids of that chunk's product, at most
+        ``GRID_BLOCK_BYTES``), the GMRES basis (16 B per vector entry), a few complex work
+        vectors per port and the stored currents (16 F P B, twice with potentials).
     """
     b, n, p = int(n_branches), int(n_loops), max(int(n_ports), 1)
     sheet = SHEET_BYTES_PER_BRANCH * b

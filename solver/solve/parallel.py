@@ -70,8 +70,7 @@ def task_memory(system, points):
         shared = est.parts["L"]
         return est.solve_bytes - shared, shared
     shared = SHEET_BYTES_PER_BRANCH * b
-    subs = max(net.layer_sublayers, default=1)
-    return estimate_fast_memory(b, n, p, points, sublayers=subs) - shared, shared
+    return estimate_fast_memory(b, n, p, points, sublayers=net.most_sublayers) - shared, shared
 
 
 def _solve_chunk(system, task):

@@ -298,7 +298,7 @@ def assemble(mesh, layout, ports, lumped=(), *, n_freqs=1, f_max=0.0, memory_lim
     method = choose_method(method, nb)
     check_memory(method, nb, basis.loops.shape[1], network.n_nodes, len(ports), n_freqs,
                  limit=memory_limit, keep_currents=keep_currents,
-                 sublayers=max(network.layer_sublayers, default=1))
+                 sublayers=network.most_sublayers)
 
     t = time.perf_counter()
     n_edges = int((network.branch_kind == EDGE).sum())
